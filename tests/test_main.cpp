@@ -1,0 +1,3 @@
+// Catch2 2.13 main shared by every test executable.
+#define CATCH_CONFIG_MAIN
+#include <catch2/catch.hpp>
