@@ -25,6 +25,7 @@ int run_project(const std::vector<std::string>& args) {
   opts.add_options()
       ("help,h", "this text")
       ("example", "print a complete, commented RUN.yaml and exit")
+      ("output-dir", po::value<std::string>(), "write the outputs here instead of the file's output.directory")
       ("threads", po::value<int>()->default_value(0), "OpenMP threads (0 = OMP_NUM_THREADS or all cores)")
       ("quiet,q", "print only warnings and errors");
   po::options_description hidden;
@@ -38,7 +39,11 @@ int run_project(const std::vector<std::string>& args) {
   if (!vm.count("run")) throw core::ConfigError("missing RUN.yaml (see icmscope project --help)");
   set_threads(vm["threads"].as<int>());
   pipeline::Log log(vm.count("quiet") > 0);
-  const auto settings = config::load_map_run(vm["run"].as<std::string>());
+  auto settings = config::load_map_run(vm["run"].as<std::string>());
+  if (vm.count("output-dir")) {
+    settings.output.directory = vm["output-dir"].as<std::string>();
+    settings.resolved_yaml += "# output.directory overridden on the command line: " + settings.output.directory + "\n";
+  }
   const auto r = pipeline::run_project(settings, log);
   std::printf("maps:   %s\nconfig: %s\n", r.maps_file.c_str(), r.config_file.c_str());
   if (!r.quicklook_file.empty()) std::printf("image:  %s\n", r.quicklook_file.c_str());

@@ -152,7 +152,7 @@ SelectionSettings read_selection(const std::optional<Section>& s) {
   x.min_kT_keV = s->number("min_kT_keV", 0.0, Range::non_negative());
   x.exclude_star_forming = s->flag("exclude_star_forming", true);
   x.exclude_cold_flag = s->flag("exclude_cold_flag", true);
-  x.max_radius_kpc = s->number("max_radius_kpc", INFINITY, Range::positive());
+  x.max_radius_kpc = s->number("max_radius_kpc", INFINITY, Range::positive_or_unlimited());
   return x;
 }
 
@@ -197,7 +197,7 @@ ViewSettings read_view(const std::optional<Section>& s) {
     if (std::sqrt(a[0] * a[0] + a[1] * a[1] + a[2] * a[2]) == 0) s->fail("vector", "expected a non-zero vector");
     v.vector = {a[0], a[1], a[2]};
   }
-  v.depth_kpc = s->number("depth_kpc", INFINITY, Range::positive());
+  v.depth_kpc = s->number("depth_kpc", INFINITY, Range::positive_or_unlimited());
   v.nx = static_cast<int>(s->integer("pixels", 512, Range::closed(1, 16384)));
   v.ny = static_cast<int>(s->integer("pixels_y", v.nx, Range::closed(1, 16384)));
   const bool has_width = s->has("width_arcmin");
@@ -242,7 +242,7 @@ const char* map_run_example_yaml() {
 # Units are in the key names. Relative paths resolve against this file's folder.
 
 target:
-  name: Aurel-1                # used for output names and the OBJECT keyword
+  name: Maren-7                # used for output names and the OBJECT keyword
   redshift: 0.12               # > 0 (required)
   ra_deg: 150.25               # [0, 360), default 0
   dec_deg: 2.40                # [-90, 90], default 0
@@ -255,7 +255,7 @@ cosmology:                     # LambdaCDM; curved when Omega_m + Omega_lambda !
   Omega_lambda: 0.7
 
 cells:
-  model: ../../demo_clusters/models/relaxed_cool_core.yaml  # an analytic model, synthesised on the fly
+  model: ../../demo_clusters/models/maren7_cool_core.yaml  # an analytic model, synthesised on the fly
   model_particles: 100000      # override the model's particle count (0 = keep)
   model_projection: particles  # particles (synthesise, then project) | analytic (line-of-sight integrals)
   # analytic_subsamples: 2     # model_projection: analytic -> Gauss-Legendre points per pixel axis
@@ -316,7 +316,7 @@ map:
 
 output:
   directory: out               # created if missing
-  prefix: Aurel-1              # default: target name
+  prefix: Maren-7              # default: target name
   quicklook: true              # PNG picture of the surface brightness
   stretch: asinh               # asinh | log | linear
 )";

@@ -273,7 +273,7 @@ static std::string scalar_of(const Section& s, const YAML::Node& n, const std::s
   return n.Scalar();
 }
 
-static bool parse_double(const std::string& t, double& v) {
+static bool parse_double(const std::string& t, double& v, bool allow_inf = false) {
   if (t.empty()) return false;
   try {
     YAML::Node n(t);
@@ -281,7 +281,7 @@ static bool parse_double(const std::string& t, double& v) {
   } catch (...) {
     return false;
   }
-  return std::isfinite(v);
+  return std::isfinite(v) || (allow_inf && v == INFINITY);
 }
 
 double Section::number(const std::string& key, std::optional<double> def, Range range) const {
@@ -294,7 +294,9 @@ double Section::number(const std::string& key, std::optional<double> def, Range 
   }
   const std::string t = scalar_of(*this, n, key, "a number");
   double v = 0;
-  if (!parse_double(t, v)) fail(key, "expected a finite number, got '" + t + "'");
+  if (!parse_double(t, v, range.allow_infinite))
+    fail(key, std::string("expected a ") + (range.allow_infinite ? "number or .inf" : "finite number") + ", got '" +
+                  t + "'");
   if (!range.contains(v)) fail(key, "value " + t + " out of range (expected " + range.describe() + ")");
   record(*impl_, key, fmt_num(v), false);
   return v;

@@ -127,78 +127,112 @@ void EventList::append(const EventList& o) {
 }
 
 namespace {
-// Scatters v into buckets (stable), out[pos[i]] = v[i].
-template <typename T>
-void scatter(std::vector<T>& v, const std::vector<std::uint32_t>& pos) {
-  std::vector<T> out(v.size());
-  for (std::size_t i = 0; i < v.size(); ++i) out[pos[i]] = v[i];
-  v.swap(out);
-}
-// Permutes v[b0 .. b1) by the local order idx (values 0 .. b1-b0), using tmp.
-template <typename T>
-void permute_local(std::vector<T>& v, std::size_t b0, const std::vector<std::uint32_t>& idx, std::vector<T>& tmp) {
-  tmp.resize(idx.size());
-  for (std::size_t i = 0; i < idx.size(); ++i) tmp[i] = v[b0 + idx[i]];
-  std::copy(tmp.begin(), tmp.end(), v.begin() + static_cast<std::ptrdiff_t>(b0));
-}
+// One event as a record, for the permutation phase of the time sort (one
+// cache line per event instead of six scattered columns).
+struct EventRecord {
+  double t, x, y;
+  float e;
+  std::int32_t pi;
+  std::uint32_t order;  // position before sorting within the bucket (stability)
+  std::uint8_t comp;
+};
 }  // namespace
 
 void EventList::sort_by_time() {
   const std::size_t n = size();
   if (n < 2) return;
   if (n > 0xffffffffULL) fail("sort_by_time: more than 2^32 events");
-  // Cache-friendly two-level sort, deterministic and stable: a counting pass
-  // scatters all columns into at most 4096 time buckets of ~64k events (few
-  // write streams, keeping the original order within a bucket), then each
-  // bucket is sorted by (time, order) in cache, buckets in parallel.
+  if (std::is_sorted(time_s.begin(), time_s.end())) return;
+  // Two-level bucket sort, deterministic and stable: a counting pass places
+  // every event as one record into at most 4096 time buckets of ~64k events
+  // (keeping the original order within a bucket); each bucket is then sorted
+  // in cache by a counting pass over ~4-event sub-buckets and an insertion sort
+  // (stable_sort where times cluster), buckets in parallel; the records are
+  // written back to the columns in order.
   const auto [mn, mx] = std::minmax_element(time_s.begin(), time_s.end());
   const double t0 = *mn, span = *mx - *mn;
-  if (!(span > 0)) return;  // all equal: already in a stable order
   const std::size_t nb = std::clamp<std::size_t>(n / 65536, 1, 4096);
   const double scale = static_cast<double>(nb) / span;
   std::vector<std::size_t> start(nb + 1, 0);
-  std::vector<std::uint32_t> pos(n);
+  std::vector<std::uint32_t> bucket(n);
   for (std::size_t i = 0; i < n; ++i) {
     std::size_t b = static_cast<std::size_t>((time_s[i] - t0) * scale);
     if (b >= nb) b = nb - 1;
-    pos[i] = static_cast<std::uint32_t>(b);
+    bucket[i] = static_cast<std::uint32_t>(b);
     ++start[b + 1];
   }
   for (std::size_t b = 0; b < nb; ++b) start[b + 1] += start[b];
+  std::vector<EventRecord> rec(n);
   {
     std::vector<std::size_t> fill(start.begin(), start.end() - 1);
-    for (std::size_t i = 0; i < n; ++i) pos[i] = static_cast<std::uint32_t>(fill[pos[i]]++);
+    for (std::size_t i = 0; i < n; ++i) {
+      const std::size_t b = bucket[i];
+      const std::size_t k = fill[b]++;
+      rec[k] = {time_s[i], x[i], y[i], energy_keV[i], pi[i], static_cast<std::uint32_t>(k - start[b]), component[i]};
+    }
   }
-  scatter(x, pos);
-  scatter(y, pos);
-  scatter(energy_keV, pos);
-  scatter(pi, pos);
-  scatter(time_s, pos);
-  scatter(component, pos);
+  std::vector<std::uint32_t>().swap(bucket);
   const std::ptrdiff_t nbs = static_cast<std::ptrdiff_t>(nb);
 #pragma omp parallel
   {
-    std::vector<std::uint32_t> idx;
-    std::vector<double> td;
-    std::vector<float> tf;
-    std::vector<std::int32_t> ti;
-    std::vector<std::uint8_t> tc;
+    std::vector<std::uint32_t> key;
+    std::vector<std::size_t> sub, fillp;
+    std::vector<EventRecord> tmp;
 #pragma omp for schedule(dynamic, 1)
     for (std::ptrdiff_t b = 0; b < nbs; ++b) {
-      const std::size_t b0 = start[b], b1 = start[b + 1];
-      if (b1 - b0 < 2) continue;
-      idx.resize(b1 - b0);
-      for (std::size_t i = 0; i < idx.size(); ++i) idx[i] = static_cast<std::uint32_t>(i);
-      const double* t = time_s.data() + b0;
-      if (std::is_sorted(t, t + idx.size())) continue;
-      std::sort(idx.begin(), idx.end(), [t](std::uint32_t a, std::uint32_t c) { return t[a] < t[c] || (t[a] == t[c] && a < c); });
-      permute_local(x, b0, idx, td);
-      permute_local(y, b0, idx, td);
-      permute_local(time_s, b0, idx, td);
-      permute_local(energy_keV, b0, idx, tf);
-      permute_local(pi, b0, idx, ti);
-      permute_local(component, b0, idx, tc);
+      const std::size_t b0 = start[b], m = start[b + 1] - start[b];
+      if (m < 2) continue;
+      EventRecord* r = rec.data() + b0;
+      double tb0 = r[0].t, tb1 = r[0].t;
+      for (std::size_t i = 1; i < m; ++i) {
+        tb0 = std::min(tb0, r[i].t);
+        tb1 = std::max(tb1, r[i].t);
+      }
+      const std::size_t ns = std::max<std::size_t>(1, m / 4);
+      const double bscale = tb1 > tb0 ? static_cast<double>(ns) / (tb1 - tb0) : 0.0;
+      sub.assign(ns + 1, 0);
+      key.resize(m);
+      for (std::size_t i = 0; i < m; ++i) {
+        std::size_t k = static_cast<std::size_t>((r[i].t - tb0) * bscale);
+        if (k >= ns) k = ns - 1;
+        key[i] = static_cast<std::uint32_t>(k);
+        ++sub[k + 1];
+      }
+      for (std::size_t k = 0; k < ns; ++k) sub[k + 1] += sub[k];
+      tmp.resize(m);
+      fillp.assign(sub.begin(), sub.end() - 1);
+      for (std::size_t i = 0; i < m; ++i) tmp[fillp[key[i]]++] = r[i];
+      auto less = [](const EventRecord& a, const EventRecord& c) { return a.t < c.t || (a.t == c.t && a.order < c.order); };
+      for (std::size_t k = 0; k < ns; ++k) {
+        EventRecord* s0 = tmp.data() + sub[k];
+        const std::size_t len = sub[k + 1] - sub[k];
+        if (len > 64) {  // clustered times: no quadratic insertion sort
+          std::sort(s0, s0 + len, less);
+          continue;
+        }
+        for (std::size_t a = 1; a < len; ++a) {
+          const EventRecord v = s0[a];
+          std::size_t c = a;
+          while (c > 0 && less(v, s0[c - 1])) {
+            s0[c] = s0[c - 1];
+            --c;
+          }
+          s0[c] = v;
+        }
+      }
+      std::copy(tmp.begin(), tmp.end(), r);
     }
+  }
+  const std::ptrdiff_t ns = static_cast<std::ptrdiff_t>(n);
+#pragma omp parallel for schedule(static)
+  for (std::ptrdiff_t i = 0; i < ns; ++i) {
+    const EventRecord& q = rec[static_cast<std::size_t>(i)];
+    time_s[i] = q.t;
+    x[i] = q.x;
+    y[i] = q.y;
+    energy_keV[i] = q.e;
+    pi[i] = q.pi;
+    component[i] = q.comp;
   }
 }
 

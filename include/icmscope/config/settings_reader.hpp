@@ -23,11 +23,18 @@ struct Range {
   double hi = std::numeric_limits<double>::infinity();
   bool lo_open = false;
   bool hi_open = false;
+  bool allow_infinite = false;  // accept .inf (YAML) as "no limit"
   static Range any() { return {}; }
   static Range positive() { return {0.0, std::numeric_limits<double>::infinity(), true, false}; }
   static Range non_negative() { return {0.0, std::numeric_limits<double>::infinity(), false, false}; }
   static Range closed(double a, double b) { return {a, b, false, false}; }
   static Range at_least(double a) { return {a, std::numeric_limits<double>::infinity(), false, false}; }
+  // > 0, and .inf accepted (e.g. an unlimited depth or radius).
+  static Range positive_or_unlimited() {
+    Range r = positive();
+    r.allow_infinite = true;
+    return r;
+  }
   bool contains(double v) const;
   std::string describe() const;  // e.g. "> 0", "in [0, 90]"
 };
