@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <exception>
 
 #include "icmscope/core/blocked.hpp"
 #include "icmscope/core/errors.hpp"
@@ -143,14 +144,22 @@ std::vector<std::vector<double>> run_realisations(int n, int threads, std::size_
   for (auto& r : out) r.reserve(n_slots);
   if (threads <= 0) threads = core::max_threads();
   threads = std::max(1, std::min(threads, std::max(1, n)));
+  // Exceptions must not leave an OpenMP region: keep the first one (lowest k) and rethrow.
+  std::vector<std::exception_ptr> errors(out.size());
 #pragma omp parallel for num_threads(threads) schedule(dynamic, 1) if (threads > 1)
   for (int k = 0; k < n; ++k) {
     int t = 0;
 #ifdef _OPENMP
     t = omp_get_thread_num();
 #endif
-    fn(k, t, out[static_cast<std::size_t>(k)]);
+    try {
+      fn(k, t, out[static_cast<std::size_t>(k)]);
+    } catch (...) {
+      errors[static_cast<std::size_t>(k)] = std::current_exception();
+    }
   }
+  for (const auto& e : errors)
+    if (e) std::rethrow_exception(e);
   return out;
 }
 

@@ -139,12 +139,17 @@ ColumnKernel::ColumnKernel(SphKernel k) : kind_(k) {
 
   // Fast table: the bin midpoints (2i+1)/(2 kFastBins) are accurate nodes.
   static_assert(kAccurateNodes == 2 * kFastBins, "fast bins must sit on accurate nodes");
-  fast_.assign(2 * (static_cast<std::size_t>(kFastBins) + 1), 0.0f);
+  fast_.assign(2 * (static_cast<std::size_t>(kFastBins) + kFastPad), 0.0f);
   double sf = 0.0, sl = 0.0;
   for (int i = 0; i < kFastBins; ++i) {
     const auto j = static_cast<std::size_t>(2 * i + 1);
-    fast_[2 * static_cast<std::size_t>(i)] = static_cast<float>(accurate_[j]);
-    fast_[2 * static_cast<std::size_t>(i) + 1] = static_cast<float>(accurate_lap_[j]);
+    const float f = static_cast<float>(accurate_[j]);
+    // The corrected value F + c LapF is used with c = 1 / (24 h^2) <= 1/24
+    // (h >= 1 pixel); keep it non-negative for every such c, which only
+    // matters where the correction would exceed the value itself.
+    const float l = std::max(static_cast<float>(accurate_lap_[j]), -24.0f * f);
+    fast_[2 * static_cast<std::size_t>(i)] = f;
+    fast_[2 * static_cast<std::size_t>(i) + 1] = l;
     sf += static_cast<double>(fast_[2 * static_cast<std::size_t>(i)]);
     sl += static_cast<double>(fast_[2 * static_cast<std::size_t>(i) + 1]);
   }

@@ -267,14 +267,14 @@ struct Scratch {
 // never on the region: the normalisation pass and the tile passes agree
 // bitwise.
 
-// Centre sampling of F + LapF / (24 h^2) from the fast S^2 table.
+// Centre sampling of F + LapF / (24 h^2) from the fast S^2 table: the chord
+// of each row (pixel centres inside the support) and the scaled squared
+// distances. fn(b, a0, a1, dxn + a0 - rx0, dyn): S^2 kFast = dxn[j] + dyn.
 template <typename Fn>
-inline void sampled_rows(const KernelEntry& e, int rx0, int rx1, int ry0, int ry1, const float* tab,
-                         Scratch& s, Fn&& fn) {
+inline void sampled_chords(const KernelEntry& e, int rx0, int rx1, int ry0, int ry1, Scratch& s, Fn&& fn) {
   const double hp = e.hp;
   const double inv_h2 = 1.0 / (hp * hp);
   const double scale = inv_h2 * kFast;
-  const float c = static_cast<float>(inv_h2 / 24.0);
   // Clip the region to the pixel centres inside the support's bounding box.
   rx0 = static_cast<int>(std::max<long long>(rx0, ceil_ll(e.uc - 0.5 - hp)));
   rx1 = static_cast<int>(std::min<long long>(rx1, floor_ll(e.uc - 0.5 + hp)));
@@ -283,7 +283,6 @@ inline void sampled_rows(const KernelEntry& e, int rx0, int rx1, int ry0, int ry
   if (rx0 > rx1 || ry0 > ry1) return;
   s.ensure_width(static_cast<std::size_t>(rx1 - rx0 + 1));
   float* dxn = s.dxn.data();
-  float* w = s.row.data();
   for (int a = rx0; a <= rx1; ++a) {
     const double dx = a + 0.5 - e.uc;
     dxn[a - rx0] = static_cast<float>(dx * dx * scale);
@@ -296,17 +295,28 @@ inline void sampled_rows(const KernelEntry& e, int rx0, int rx1, int ry0, int ry
     const int a0 = static_cast<int>(std::max<long long>(rx0, ceil_ll(e.uc - 0.5 - hw)));
     const int a1 = static_cast<int>(std::min<long long>(rx1, floor_ll(e.uc - 0.5 + hw)));
     if (a0 > a1) continue;
-    const float dyn = static_cast<float>(dy2 * kFast);
-    const float* d = dxn + (a0 - rx0);
-    const int m = a1 - a0 + 1;
-    for (int j = 0; j < m; ++j) {
-      int i = static_cast<int>(d[j] + dyn);
-      i = i < kFast ? i : kFast;
-      const float v = tab[2 * i] + c * tab[2 * i + 1];
-      w[j] = v > 0.0f ? v : 0.0f;
-    }
-    fn(b, a0, a1, static_cast<const float*>(w));
+    fn(b, a0, a1, static_cast<const float*>(dxn + (a0 - rx0)), static_cast<float>(dy2 * kFast));
   }
+}
+
+// The weight of one sampled pixel: F + c LapF at S^2 kFast = d. Within a
+// chord d < kFast up to rounding, and the table's zero padding absorbs the
+// rounding; the table keeps F + c LapF >= 0 for c <= 1/24 (h >= 1).
+ICMSCOPE_ALWAYS_INLINE float sampled_weight(const float* tab, float d, float c) {
+  const int i = static_cast<int>(d);
+  return tab[2 * i] + c * tab[2 * i + 1];
+}
+
+template <typename Fn>
+inline void sampled_rows(const KernelEntry& e, int rx0, int rx1, int ry0, int ry1, const float* tab,
+                         Scratch& s, Fn&& fn) {
+  const float c = static_cast<float>(1.0 / (24.0 * static_cast<double>(e.hp) * e.hp));
+  sampled_chords(e, rx0, rx1, ry0, ry1, s, [&](int b, int a0, int a1, const float* d, float dyn) {
+    float* w = s.row.data();
+    const int m = a1 - a0 + 1;
+    for (int j = 0; j < m; ++j) w[j] = sampled_weight(tab, d[j] + dyn, c);
+    fn(b, a0, a1, static_cast<const float*>(w));
+  });
 }
 
 // Exact pixel integrals: double differences of P(X, Y) = sgn X sgn Y Q(|X|, |Y|)
@@ -402,8 +412,26 @@ double footprint_norm(const Setup& S, const KernelEntry& e, const Geo& g, Scratc
     return 1.0 / (hp * hp * S.ck->fast_integral(1.0 / (24.0 * hp * hp)));
   }
   double sum = 0.0;
-  kernel_rows(S, e, static_cast<int>(g.x0), static_cast<int>(g.x1), static_cast<int>(g.y0),
-              static_cast<int>(g.y1), s, [&](int, int a0, int a1, const float* w) { sum += sum_floats(w, a1 - a0 + 1); });
+  const int x0 = static_cast<int>(g.x0), x1 = static_cast<int>(g.x1);
+  const int y0 = static_cast<int>(g.y0), y1 = static_cast<int>(g.y1);
+  if (e.flags & kExact) {
+    exact_rows(e, x0, x1, y0, y1, S.ck->quadrant(), s,
+               [&](int, int a0, int a1, const float* w) { sum += sum_floats(w, a1 - a0 + 1); });
+  } else {
+    const float* tab = S.ck->fast();
+    const float c = static_cast<float>(1.0 / (24.0 * static_cast<double>(e.hp) * e.hp));
+    sampled_chords(e, x0, x1, y0, y1, s, [&](int, int a0, int a1, const float* d, float dyn) {
+      const int m = a1 - a0 + 1;
+      double s0 = 0.0, s1 = 0.0;
+      int j = 0;
+      for (; j + 2 <= m; j += 2) {
+        s0 += static_cast<double>(sampled_weight(tab, d[j] + dyn, c));
+        s1 += static_cast<double>(sampled_weight(tab, d[j + 1] + dyn, c));
+      }
+      if (j < m) s0 += static_cast<double>(sampled_weight(tab, d[j] + dyn, c));
+      sum += s0 + s1;
+    });
+  }
   return sum > 0.0 ? 1.0 / sum : 0.0;
 }
 
@@ -648,11 +676,31 @@ void deposit_tile(const Setup& S, int t, const ChunkData& cd, Scratch& s, std::v
                         norm, q);
         updates += static_cast<std::size_t>(a1 - a0 + 1);
       }
-    } else {
+    } else if (ke.flags & kExact) {
       const double norm = ke.norm;
-      kernel_rows(S, ke, rx0, rx1, ry0, ry1, s, [&](int b, int a0, int a1, const float* w) {
+      exact_rows(ke, rx0, rx1, ry0, ry1, S.ck->quadrant(), s, [&](int b, int a0, int a1, const float* w) {
         deposit_row<KT>(buf, T, K, a0 - x0, b - y0, a1 - a0 + 1, w, norm, q);
         updates += static_cast<std::size_t>(a1 - a0 + 1);
+      });
+    } else {
+      // Large footprint: weights generated and deposited in one loop (the
+      // same float values as the normalisation pass).
+      const double norm = ke.norm;
+      const float* tab = S.ck->fast();
+      const float c = static_cast<float>(1.0 / (24.0 * static_cast<double>(ke.hp) * ke.hp));
+      sampled_chords(ke, rx0, rx1, ry0, ry1, s, [&](int b, int a0, int a1, const float* d, float dyn) {
+        const int m = a1 - a0 + 1;
+        double* __restrict p = buf + (static_cast<std::size_t>(b - y0) * T + (a0 - x0)) * K;
+        if (K == 1) {
+          const double q0 = q[0];
+          for (int j = 0; j < m; ++j) p[j] += (static_cast<double>(sampled_weight(tab, d[j] + dyn, c)) * norm) * q0;
+        } else {
+          for (int j = 0; j < m; ++j) {
+            const double wn = static_cast<double>(sampled_weight(tab, d[j] + dyn, c)) * norm;
+            for (int k = 0; k < K; ++k) p[static_cast<std::size_t>(j) * K + k] += wn * q[k];
+          }
+        }
+        updates += static_cast<std::size_t>(m);
       });
     }
   }

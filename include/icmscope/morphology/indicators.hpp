@@ -72,11 +72,13 @@ struct MeasureSettings {
   double low_counts_net = 1000.0;            // flag below this net count in the largest aperture
   double large_mask_fraction = 0.1;          // flag above this bad-pixel fraction in the largest aperture
   double edge_margin_px = 0.0;               // flag a peak closer to the edge; 0 = max(5, 3 sigma)
+  double min_pixel_sn = 3.0;                 // flag a lower mean S/N per pixel for G / M20 (Lotz et al. 2004)
   std::vector<std::string> presets;          // classification presets to apply
   std::vector<ClassificationScheme> schemes; // user schemes to apply
 };
 
-// Published conventions in pixels: concentration 40/400 kpc, 100/500 kpc and
+// Published conventions in pixels: peak smoothing sigma 10 kpc (>= 1 pixel);
+// concentration 40/400 kpc, 100/500 kpc and
 // (r500_kpc > 0) 0.1/1 R500; w at 500 kpc (Cassano) and R500 (20 apertures to
 // 0.05 R_max, core 30 kpc excluded); power ratios at 500 kpc and R500 (ln R in
 // kpc); asymmetry, Gini/M20, smoothness, ellipticity at R500 (500 kpc without
@@ -91,6 +93,7 @@ struct MeasureFlags {
   bool centre_near_edge = false;
   bool unfilled_pixels = false;
   bool asymmetry_pairs_outside = false;
+  bool low_pixel_sn = false;
   std::vector<std::string> notes;  // one line per raised flag, naming the aperture
 };
 
@@ -111,6 +114,7 @@ struct Indicators {
   EllipticityResult ellipticity;
   double net_counts = 0.0;       // sum of I in the largest aperture
   double masked_fraction = 0.0;  // bad-pixel area fraction in the largest aperture
+  double mean_pixel_sn = 0.0;    // mean I / sqrt(var) over the Gini/M20 aperture
   int crop_x0 = 0, crop_y0 = 0, crop_nx = 0, crop_ny = 0;
   int realisations = 0;
   std::uint64_t seed = 0;

@@ -26,7 +26,8 @@ struct MeasureInput {
   std::vector<std::uint8_t> mask;         // empty = all good; else 1 = good, 0 = masked (row-major)
   double kpc_per_pixel = 0.0;             // physical pixel size at the cluster [kpc]; 0 = unknown
   bool find_centre = true;                // false: use `centre` as the peak
-  PixelPoint centre;                      // 0-based pixel coordinates
+  PixelPoint centre;                      // 0-based pixel coordinates; with find_centre and
+                                          // PeakSettings::search_radius_px > 0, the search guess
   // Mocks: expected total counts per pixel (cluster + background, noise-free),
   // on the counts grid. Enables realisations of the expected image.
   std::optional<core::ImageD> expected;

@@ -47,6 +47,7 @@ double column_laplacian_quadrature(SphKernel k, double S);
 class ColumnKernel {
  public:
   static constexpr int kFastBins = 4096;       // bins in S^2 in [0, 1)
+  static constexpr int kFastPad = 16;          // zero entries after the last bin
   static constexpr int kAccurateNodes = 8192;  // intervals in S^2 of the accurate table
   static constexpr int kQuadrantCells = 128;   // cells per axis of the Q table on [0, 1]^2
 
@@ -68,9 +69,11 @@ class ColumnKernel {
   // (pixel integrals) are never negative.
   double quadrant_integral(double X, double Y) const;
 
-  // Hot-loop tables. fast(): 2 * (kFastBins + 1) floats, pairs {F, LapF} at
-  // the midpoint of bin i = [i, i+1) / kFastBins in S^2; pair kFastBins is
-  // {0, 0} so that an index clamped to kFastBins yields zero.
+  // Hot-loop tables. fast(): 2 * (kFastBins + kFastPad) floats, pairs
+  // {F, LapF} at the midpoint of bin i = [i, i+1) / kFastBins in S^2; the
+  // kFastPad pairs from kFastBins on are {0, 0}, so an index that rounding
+  // pushes to or just past kFastBins yields zero without a clamp. LapF is
+  // limited to >= -24 F so that F + c LapF >= 0 for all 0 <= c <= 1/24.
   const float* fast() const { return fast_.data(); }
   // quadrant(): (kQuadrantCells + 1)^2 doubles, Q at nodes (ix, iy) / kQ,
   // row-major [iy * (kQ + 1) + ix].
