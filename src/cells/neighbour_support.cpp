@@ -6,6 +6,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <limits>
 #include <numeric>
 #include <string>
 
@@ -15,6 +16,8 @@
 namespace icmscope::cells {
 
 namespace {
+
+constexpr std::size_t kLeafSize = 16;  // points per k-d tree leaf (8-32 perform alike for k ~ 48)
 
 // Points packed as xyz triplets (one cache line holds five points).
 struct PackedCloud {
@@ -29,6 +32,47 @@ struct PackedCloud {
 
 using Tree = nanoflann::KDTreeSingleIndexAdaptor<nanoflann::L2_Simple_Adaptor<float, PackedCloud, float, std::uint32_t>,
                                                  PackedCloud, 3, std::uint32_t>;
+
+// nanoflann result set that keeps only the k smallest squared distances, in
+// a max-heap (replace-top on insertion: O(log k) instead of the O(k) sorted
+// insertion of nanoflann::KNNResultSet), and accepts an upper bound on the
+// k-th distance so that the search prunes from the start. The k-th smallest
+// distance it returns does not depend on the bound as long as at least k
+// points lie strictly inside it (checked by full()).
+class KthDistance {
+ public:
+  using DistanceType = float;
+  KthDistance(float* heap, std::size_t k, float bound_d2) : heap_(heap), k_(k), bound_(bound_d2) {}
+  bool full() const { return n_ == k_; }
+  std::size_t size() const { return n_; }
+  float worstDist() const { return n_ < k_ ? bound_ : heap_[0]; }
+  // nanoflann calls this only for d2 < worstDist().
+  bool addPoint(float d2, std::uint32_t) {
+    if (n_ < k_) {
+      heap_[n_++] = d2;
+      if (n_ == k_) std::make_heap(heap_, heap_ + k_);
+      return true;
+    }
+    std::size_t i = 0;
+    for (;;) {
+      const std::size_t l = 2 * i + 1;
+      if (l >= k_) break;
+      const std::size_t m = (l + 1 < k_ && heap_[l + 1] > heap_[l]) ? l + 1 : l;
+      if (!(heap_[m] > d2)) break;
+      heap_[i] = heap_[m];
+      i = m;
+    }
+    heap_[i] = d2;
+    return true;
+  }
+  float kth() const { return heap_[0]; }
+
+ private:
+  float* heap_;
+  std::size_t k_;
+  std::size_t n_ = 0;
+  float bound_;
+};
 
 // Interleave the low 21 bits of v with two zero bits between each.
 inline std::uint64_t spread3(std::uint64_t v) {
@@ -88,23 +132,42 @@ std::vector<float> neighbour_support_kpc(const std::vector<float>& x, const std:
     cloud.xyz[3 * j + 1] = y[i];
     cloud.xyz[3 * j + 2] = z[i];
   }
-  Tree tree(3, cloud, nanoflann::KDTreeSingleIndexAdaptorParams(16));
+  Tree tree(3, cloud, nanoflann::KDTreeSingleIndexAdaptorParams(kLeafSize));
 
   std::vector<float> support(n);
   const std::size_t kk = static_cast<std::size_t>(k);
+  // Queries in Morton order. The previous query of the same thread (at
+  // distance delta, support H_prev) bounds this one: its k neighbours lie
+  // within H_prev + delta, so H <= H_prev + delta (a 1e-5 margin covers the
+  // float rounding). The bound only prunes the search; the result is exact
+  // and independent of which query came before, hence of the threads.
+  constexpr float kHuge = std::numeric_limits<float>::max();
 #pragma omp parallel num_threads(threads)
   {
-    std::vector<std::uint32_t> idx(kk);
-    std::vector<float> d2(kk);
+    std::vector<float> heap(kk);
     nanoflann::SearchParams params;
     params.sorted = false;
+    const float* prev = nullptr;
+    double prev_h = 0.0;
 #pragma omp for schedule(dynamic, 4096)
     for (std::ptrdiff_t j = 0; j < nn; ++j) {
-      nanoflann::KNNResultSet<float, std::uint32_t, std::size_t> result(kk);
-      result.init(idx.data(), d2.data());
-      tree.findNeighbors(result, &cloud.xyz[3 * static_cast<std::size_t>(j)], params);
-      // The result set is kept sorted by insertion: d2[k-1] is the largest.
-      support[order[j]] = std::sqrt(d2[kk - 1]);
+      const float* q = &cloud.xyz[3 * static_cast<std::size_t>(j)];
+      float bound = kHuge;
+      if (prev) {
+        const double dx = double(q[0]) - prev[0], dy = double(q[1]) - prev[1], dz = double(q[2]) - prev[2];
+        const double b = (prev_h + std::sqrt(dx * dx + dy * dy + dz * dz)) * (1.0 + 1e-5) + 1e-30;
+        if (b * b < double(kHuge)) bound = static_cast<float>(b * b);
+      }
+      KthDistance result(heap.data(), kk, bound);
+      tree.findNeighbors(result, q, params);
+      if (!result.full()) {  // the bound was too tight (cannot happen beyond rounding): search unbounded
+        result = KthDistance(heap.data(), kk, kHuge);
+        tree.findNeighbors(result, q, params);
+      }
+      const float h = std::sqrt(result.kth());
+      support[order[j]] = h;
+      prev = q;
+      prev_h = h;
     }
   }
   return support;

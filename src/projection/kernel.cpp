@@ -197,6 +197,7 @@ ColumnKernel::ColumnKernel(SphKernel k) : kind_(k) {
     }
   const double scale = 0.25 / quadrant_[W * W - 1];
   for (double& q : quadrant_) q *= scale;
+  quadrant_[W * W - 1] = 0.25;  // exactly, whatever the rounding of the scaling
 }
 
 const ColumnKernel& ColumnKernel::get(SphKernel k) {

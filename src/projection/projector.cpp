@@ -39,8 +39,6 @@ constexpr std::size_t kQW = static_cast<std::size_t>(kQ) + 1;  // Q table row le
 constexpr long long kSelfArea = 576;
 
 
-struct StencilTable;
-
 // Everything the per-cell code needs, fixed for one call.
 struct Setup {
   int nx = 0, ny = 0, T = 64, shift = 6, ntx = 0, nty = 0, ntiles = 0;  // T = 1 << shift
@@ -49,7 +47,6 @@ struct Setup {
   double exact_below = 3.0;
   double huge_area = 0.0;  // bounding-box area (pixels) above which the norm is analytic
   const ColumnKernel* ck = nullptr;
-  const StencilTable* stencils = nullptr;
   int K = 1;
 };
 
@@ -61,49 +58,6 @@ struct Geo {  // filled by classify as far as the class needs (no initialisers: 
   long long x0, x1, y0, y1;  // full footprint bounding box (inclusive), kKernel
   int tx0, tx1, ty0, ty1;    // overlapped tiles (inclusive), kStencil / kKernel
   int px, py;                // pixel, kPoint / kStencil
-  std::uint32_t sid;         // stencil id, kStencil
-};
-
-// ---- precomputed stencils for support radii below one pixel ------------------
-// Exact pixel integrals (double differences of Q) of a footprint centred at
-// the middle of an offset bin of 1/32 pixel, with radius at the middle of a
-// 1/32-pixel bin: a cell is drawn as if moved by at most 1/64 pixel and
-// resized by at most 1/64 pixel. Offsets are folded into [0, 1/2) by mirror
-// symmetry (sign bits in the id). Weights are normalised in double (sum 1 to
-// rounding), so each cell's deposit is conserved exactly.
-constexpr int kStH = 32;  // radius bins over (0, 1) pixel
-constexpr int kStF = 16;  // folded offset bins over [0, 1/2)
-constexpr std::uint32_t kStMirrorX = 1u << 20, kStMirrorY = 1u << 21, kStIndex = (1u << 20) - 1;
-
-struct StencilTable {
-  std::vector<double> w;  // [((h * kStF + fy) * kStF + fx) * 9 + r * 3 + c], pixel (c-1, r-1) from the centre pixel
-  explicit StencilTable(const ColumnKernel& ck) {
-    w.resize(static_cast<std::size_t>(kStH) * kStF * kStF * 9);
-    for (int hb = 0; hb < kStH; ++hb) {
-      const double h = (hb + 0.5) / kStH;
-      for (int fyb = 0; fyb < kStF; ++fyb)
-        for (int fxb = 0; fxb < kStF; ++fxb) {
-          const double fx = (fxb + 0.5) / (2.0 * kStF), fy = (fyb + 0.5) / (2.0 * kStF);
-          double P[4][4];
-          for (int r = 0; r < 4; ++r)
-            for (int c = 0; c < 4; ++c) P[r][c] = ck.quadrant_integral((c - 1 - fx) / h, (r - 1 - fy) / h);
-          double* out = w.data() + ((static_cast<std::size_t>(hb) * kStF + fyb) * kStF + fxb) * 9;
-          double sum = 0.0;
-          for (int r = 0; r < 3; ++r)
-            for (int c = 0; c < 3; ++c) {
-              const double v = (P[r + 1][c + 1] - P[r + 1][c]) - (P[r][c + 1] - P[r][c]);
-              out[r * 3 + c] = v > 0.0 ? v : 0.0;
-              sum += out[r * 3 + c];
-            }
-          for (int k = 0; k < 9; ++k) out[k] /= sum;
-        }
-    }
-  }
-  static const StencilTable& get(const ColumnKernel& ck) {
-    static const StencilTable cubic(ColumnKernel::get(SphKernel::CubicSpline));
-    static const StencilTable wendland(ColumnKernel::get(SphKernel::WendlandC2));
-    return ck.kind() == SphKernel::CubicSpline ? cubic : wendland;
-  }
 };
 
 // floor / ceil without libm calls (the baseline x86-64 ISA has no roundsd,
@@ -173,20 +127,6 @@ ICMSCOPE_ALWAYS_INLINE int classify(const Setup& S, float u, float v, float H, G
       tiles_of(S, cx0, cx1, cy0, cy1, g);
       g.px = static_cast<int>(px);
       g.py = static_cast<int>(py);
-      double ax = fx, ay = fy;
-      std::uint32_t sid = 0;
-      if (ax >= 0.5) {
-        ax = 1.0 - ax;
-        sid |= kStMirrorX;
-      }
-      if (ay >= 0.5) {
-        ay = 1.0 - ay;
-        sid |= kStMirrorY;
-      }
-      const int hb = std::min(static_cast<int>(hp * kStH), kStH - 1);
-      const int fxb = std::min(static_cast<int>(ax * (2 * kStF)), kStF - 1);
-      const int fyb = std::min(static_cast<int>(ay * (2 * kStF)), kStF - 1);
-      g.sid = sid | static_cast<std::uint32_t>((hb * kStF + fyb) * kStF + fxb);
       return kStencil;
     }
     g.x0 = ifloor(x - hp);
@@ -211,17 +151,18 @@ ICMSCOPE_ALWAYS_INLINE int classify(const Setup& S, float u, float v, float H, G
 }
 
 // Per-cell code of pass 1 (64 bits): 0 = skip; top bits 01 = point
-// (tile << 16 | tile-local pixel); 10 = stencil (sid << 40 | (px+1) << 20 |
+// (tile << 16 | tile-local pixel); 10 = small (h < 1) cell ((px+1) << 20 |
 // (py+1)); 11 = kernel (re-classified in pass 2).
 constexpr std::uint64_t kCodePoint = 1ull << 62, kCodeStencil = 2ull << 62, kCodeKernelK = 3ull << 62;
 constexpr std::uint64_t kCodeKind = 3ull << 62;
 // Point-only deposit uses 32-bit codes: tile << 16 | tile-local pixel, or skip.
 constexpr std::uint32_t kCode32Skip = 0xFFFFFFFFu;
 
-// Tile-sorted stencil cell: stencil id and centre pixel relative to the tile
-// origin (may lie just outside the tile).
+// Tile-sorted small cell (support radius h < 1 pixel): offset of the centre
+// within its pixel, radius, and the centre pixel relative to the tile origin
+// (may lie just outside the tile).
 struct StencilEntry {
-  std::uint32_t sid;
+  float fx, fy, h;
   std::int16_t lx, ly;
 };
 
@@ -512,6 +453,54 @@ inline bool small_exact_block(const KernelEntry& e, const double* Q, SmallBlock&
   return true;
 }
 
+// Exact pixel integrals of a footprint with support radius h < 1 pixel
+// centred at (fx, fy) in [0, 1)^2 of its pixel, over the 3 x 3 pixels around
+// it (W[3 r + c] for the pixel (c - 1, r - 1) from the centre pixel). The
+// footprint can cross only the lines x = 0, 1 and y = 0, 1 of the centre
+// pixel: the corner values are P(X, Y) = sgn X sgn Y Q(|X|, |Y|) at
+// X in {-1, -fx/h, (1-fx)/h, 1} (clamped to [-1, 1]), likewise Y, and
+// W = double differences of P. Branch-free; the weights sum to 4 Q(1, 1) = 1
+// up to rounding (telescoping), so no normalisation pass is needed.
+ICMSCOPE_ALWAYS_INLINE void exact_3x3(const double* __restrict Q, double fx, double fy, double h, double* W) {
+  const double inv = 1.0 / h;
+  const double* top = Q + kQW * kQ;  // Q(t, 1) = Q(1, t)
+  const double q11 = top[kQ];
+  // |X| of the two lines per axis, in table units.
+  auto node = [](double t, int& i, double& f) {
+    t = (t < 1.0 ? t : 1.0) * kQ;
+    i = static_cast<int>(t);
+    i = i < kQ - 1 ? i : kQ - 1;
+    f = t - i;
+  };
+  int ia, ib, ja, jb;
+  double fa, fb, ga, gb;
+  node(fx * inv, ia, fa);          // line x = 0: X = -fx/h
+  node((1.0 - fx) * inv, ib, fb);  // line x = 1: X = (1-fx)/h
+  node(fy * inv, ja, ga);
+  node((1.0 - fy) * inv, jb, gb);
+  auto edge = [&](int i, double f) { return top[i] + f * (top[i + 1] - top[i]); };
+  auto bil = [&](int i, double f, int j, double g) {
+    const double* r0 = Q + static_cast<std::size_t>(j) * kQW;
+    const double* r1 = r0 + kQW;
+    const double q0 = r0[i] + f * (r0[i + 1] - r0[i]);
+    const double q1 = r1[i] + f * (r1[i + 1] - r1[i]);
+    return q0 + g * (q1 - q0);
+  };
+  const double Ma = edge(ia, fa), Mb = edge(ib, fb), Na = edge(ja, ga), Nb = edge(jb, gb);
+  const double Qaa = bil(ia, fa, ja, ga), Qab = bil(ia, fa, jb, gb);
+  const double Qba = bil(ib, fb, ja, ga), Qbb = bil(ib, fb, jb, gb);
+  // P[row][col], rows Y = -1, -fy/h, (1-fy)/h, 1; cols X likewise.
+  const double P[4][4] = {{q11, Ma, -Mb, -q11},
+                          {Na, Qaa, -Qba, -Na},
+                          {-Nb, -Qab, Qbb, Nb},
+                          {-q11, -Ma, Mb, q11}};
+  for (int r = 0; r < 3; ++r)
+    for (int c = 0; c < 3; ++c) {
+      const double v = (P[r + 1][c + 1] - P[r + 1][c]) - (P[r][c + 1] - P[r][c]);
+      W[3 * r + c] = v > 0.0 ? v : 0.0;
+    }
+}
+
 // ---- tile deposit ------------------------------------------------------------
 
 // One row of weights into the tile buffer; K = KT when KT > 0, else K_.
@@ -570,52 +559,47 @@ void deposit_tile(const Setup& S, int t, const ChunkData& cd, Scratch& s, std::v
       for (int k = 0; k < K; ++k) p[k] += q[k];
     }
   }
-  // Stencil entries: 3 x 3 pixels, mirrored by the id's sign bits.
+  // Small cells (h < 1): exact 3 x 3 pixel integrals.
   std::size_t updates = 0;
   if (s0 < s1) {
-    const double* __restrict tab = S.stencils->w.data();
+    const double* __restrict Q = S.ck->quadrant();
     const StencilEntry* __restrict sent = cd.sent.data();
     const double* __restrict swp = cd.sw.data();
     double* __restrict B = buf;
-    const std::ptrdiff_t Kp = K, TK = static_cast<std::ptrdiff_t>(T) * K;
     for (std::size_t e = s0; e < s1; ++e) {
       const StencilEntry se = sent[e];
-      const double* __restrict W = tab + static_cast<std::size_t>(se.sid & kStIndex) * 9;
+      double W[9];
+      exact_3x3(Q, se.fx, se.fy, se.h, W);
       const double* __restrict q = swp + e * K;
-      const int sx = (se.sid & kStMirrorX) ? -1 : 1, sy = (se.sid & kStMirrorY) ? -1 : 1;
-      const std::ptrdiff_t dx = (se.sid & kStMirrorX) ? -Kp : Kp;
-      const std::ptrdiff_t dy = (se.sid & kStMirrorY) ? -TK : TK;
       const int lx = se.lx, ly = se.ly;
       if (lx >= 1 && ly >= 1 && lx + 1 < tw && ly + 1 < th) {
-        double* c = B + (static_cast<std::ptrdiff_t>(ly) * T + lx) * K;
-        double* row[3] = {c - dy - dx, c - dx, c + dy - dx};
+        double* c = B + (static_cast<std::ptrdiff_t>(ly - 1) * T + (lx - 1)) * K;
         if (K == 1) {
           const double q0 = q[0];
           for (int r = 0; r < 3; ++r) {
-            double* p = row[r];
-            const double* w = W + r * 3;
-            p[0] += w[0] * q0;
-            p[dx] += w[1] * q0;
-            p[2 * dx] += w[2] * q0;
+            double* p = c + static_cast<std::ptrdiff_t>(r) * T;
+            p[0] += W[3 * r] * q0;
+            p[1] += W[3 * r + 1] * q0;
+            p[2] += W[3 * r + 2] * q0;
           }
         } else {
           for (int r = 0; r < 3; ++r)
             for (int cc = 0; cc < 3; ++cc) {
-              double* p = row[r] + cc * dx;
-              const double wn = W[r * 3 + cc];
+              double* p = c + (static_cast<std::ptrdiff_t>(r) * T + cc) * K;
+              const double wn = W[3 * r + cc];
               for (int k = 0; k < K; ++k) p[k] += wn * q[k];
             }
         }
         updates += 9;
       } else {
         for (int r = 0; r < 3; ++r) {
-          const int yy = ly + sy * (r - 1);
+          const int yy = ly - 1 + r;
           if (yy < 0 || yy >= th) continue;
           for (int cc = 0; cc < 3; ++cc) {
-            const int xx = lx + sx * (cc - 1);
+            const int xx = lx - 1 + cc;
             if (xx < 0 || xx >= tw) continue;
-            double* p = buf + (static_cast<std::size_t>(yy) * T + xx) * K;
-            const double wn = W[r * 3 + cc];
+            double* p = B + (static_cast<std::size_t>(yy) * T + xx) * K;
+            const double wn = W[3 * r + cc];
             for (int k = 0; k < K; ++k) p[k] += wn * q[k];
             ++updates;
           }
@@ -807,7 +791,6 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
   if (!point_only) {
     S.ck = &ColumnKernel::get(settings.kernel == DepositKernel::WendlandC2 ? SphKernel::WendlandC2
                                                                           : SphKernel::CubicSpline);
-    S.stencils = &StencilTable::get(*S.ck);
   }
   auto ntiles_for = [&](int T) {
     return static_cast<long long>((grid.nx + T - 1) / T) * ((grid.ny + T - 1) / T);
@@ -960,8 +943,7 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
           code[j] = kCodePoint | (static_cast<std::uint64_t>(tile) << 16) |
                     static_cast<std::uint64_t>(((g.py - (ty << shift)) << shift) + (g.px - (tx << shift)));
         } else if (c == kStencil) {
-          code[j] = kCodeStencil | (static_cast<std::uint64_t>(g.sid) << 40) |
-                    (static_cast<std::uint64_t>(g.px + 1) << 20) | static_cast<std::uint64_t>(g.py + 1);
+          code[j] = kCodeStencil | (static_cast<std::uint64_t>(g.px + 1) << 20) | static_cast<std::uint64_t>(g.py + 1);
           if (g.tx0 == g.tx1 && g.ty0 == g.ty1) {
             ++cs[g.ty0 * ntx + g.tx0];
           } else {
@@ -1075,14 +1057,19 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
           continue;
         }
         if (kind == kCodeStencil) {
-          const auto sid = static_cast<std::uint32_t>((cj >> 40) & 0x3FFFFFu);
           const int px = static_cast<int>((cj >> 20) & 0xFFFFFu) - 1, py = static_cast<int>(cj & 0xFFFFFu) - 1;
+          // Offset within the centre pixel and radius, recomputed with the
+          // arithmetic of classify().
+          const double x = (static_cast<double>(cells.u[i]) - S.umin) * S.inv_pix;
+          const double y = (static_cast<double>(cells.v[i]) - S.vmin) * S.inv_pix;
+          const float hp = static_cast<float>(static_cast<double>(Hs[i]) * S.inv_pix);
+          const float fx = static_cast<float>(x - px), fy = static_cast<float>(y - py);
           const int tx0 = std::max(px - 1, 0) >> shift, tx1 = std::min(px + 1, S.nx - 1) >> shift;
           const int ty0 = std::max(py - 1, 0) >> shift, ty1 = std::min(py + 1, S.ny - 1) >> shift;
           ++cs_n;
           if (tx0 == tx1 && ty0 == ty1) {
             const std::size_t e = cs[ty0 * ntx + tx0]++;
-            sent[e] = {sid, static_cast<std::int16_t>(px - (tx0 << shift)),
+            sent[e] = {fx, fy, hp, static_cast<std::int16_t>(px - (tx0 << shift)),
                        static_cast<std::int16_t>(py - (ty0 << shift))};
             if (d0)
               sw[e] = d0[i];
@@ -1093,7 +1080,7 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
           for (int ty = ty0; ty <= ty1; ++ty)
             for (int tx = tx0; tx <= tx1; ++tx) {
               const std::size_t e = cs[ty * ntx + tx]++;
-              sent[e] = {sid, static_cast<std::int16_t>(px - (tx << shift)),
+              sent[e] = {fx, fy, hp, static_cast<std::int16_t>(px - (tx << shift)),
                          static_cast<std::int16_t>(py - (ty << shift))};
               reader.read(i, sw + e * Ku);
             }

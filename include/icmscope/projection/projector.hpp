@@ -17,9 +17,9 @@
 // radius h = H / p in pixels:
 //   - footprint inside one pixel (or DepositKernel::Point, or H = 0): the
 //     whole weight goes to the cell's pixel;
-//   - h < 1: a precomputed 3 x 3 stencil of exact pixel integrals for the
-//     cell's sub-pixel offset and radius quantised to 1/32 pixel (the cell is
-//     drawn as if moved and resized by at most 1/64 pixel);
+//   - h < 1: exact pixel integrals over the 3 x 3 pixels around the centre
+//     pixel (the footprint crosses at most two pixel lines per axis), in a
+//     short branch-free computation;
 //   - 1 <= h < exact_below_pixels: exact pixel integrals of F, from double
 //     differences of the tabulated cumulative integral Q(X, Y) (kernel.hpp);
 //   - larger h: F sampled at pixel centres with the second-order pixel-
@@ -98,7 +98,7 @@ struct ProjectionStats {
   std::size_t cells_in = 0;           // cells offered (after selection)
   std::size_t cells_deposited = 0;    // cells with a footprint touching the field
   std::size_t cells_point = 0;        // deposited whole into one pixel
-  std::size_t cells_stencil = 0;      // support radius < 1 pixel: precomputed 3 x 3 stencils
+  std::size_t cells_stencil = 0;      // support radius < 1 pixel: exact 3 x 3 pixel integrals
   std::size_t cells_exact = 0;        // exact pixel integrals
   std::size_t cells_sampled = 0;      // centre sampling with Laplacian correction
   std::size_t cells_huge = 0;         // normalised by the continuum integral
