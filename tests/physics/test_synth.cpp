@@ -360,14 +360,26 @@ TEST_CASE("particle masses, counts, densities and phases of a two-component mode
 }
 
 TEST_CASE("support radii hold exactly k neighbours", "[physics][synth]") {
-  // Brute force on a synthesised cloud: within H (self counted) there are k
-  // particles; a relative margin of 1e-5 absorbs the float rounding of H.
+  // Brute force on a synthesised cloud: H is the k-th smallest of the float
+  // squared distances (dx^2 + dy^2) + dz^2 (self included), bit for bit, and
+  // the particles strictly inside H number at most k - 1, those within H at least k.
   ClusterModel m = two_component_model(6000, 11);
   m.k_neighbours = 32;
   const cells::GasCells g = cells::synthesise(m);
   const std::size_t n = g.size();
+  std::vector<float> d2(n);
   std::size_t exact = 0;
   for (std::size_t i = 0; i < n; i += 3) {
+    for (std::size_t j = 0; j < n; ++j) {
+      const float dx = g.x[i] - g.x[j], dy = g.y[i] - g.y[j], dz = g.z[i] - g.z[j];
+      float s = 0.0f;
+      s += dx * dx;
+      s += dy * dy;
+      s += dz * dz;
+      d2[j] = s;
+    }
+    std::nth_element(d2.begin(), d2.begin() + 31, d2.end());
+    REQUIRE(g.support[i] == std::sqrt(d2[31]));
     const double h = g.support[i];
     std::size_t inner = 0, outer = 0;
     for (std::size_t j = 0; j < n; ++j) {

@@ -9,9 +9,13 @@
 // k ~ 32-64 for 3-D kernels with compact support).
 //
 // Exact k-d tree search (nanoflann 1.4, single-index adaptor) on the float
-// positions, the points reordered along a Morton curve for memory locality.
-// Queries run in parallel with OpenMP; each result depends only on the
-// positions, so the output is identical for any thread count.
+// positions, the points reordered along a Morton curve for memory locality;
+// the squared distances are those of nanoflann's L2 metric in float
+// ((dx^2 + dy^2) + dz^2). Each query keeps the k smallest distances in a heap
+// and starts from the bound H_prev + delta given by the previous query of its
+// thread (pruning only: the result is exact). Queries run in parallel with
+// OpenMP; each result depends only on the positions, so the output is
+// identical for any thread count.
 #include <cstddef>
 #include <vector>
 
