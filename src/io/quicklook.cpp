@@ -188,7 +188,7 @@ void write_quicklook_png(const std::string& path, const core::ImageD& img, const
         pls.width(3.0);
         pls.join(bx, by, bx + len_am, by);
         pls.width(1.0);
-        pls.ptex(bx + 0.5 * len_am, by + 0.025 * (y1 - y0), 1.0, 0.0, 0.5, text.c_str());
+        pls.ptex(bx, by + 0.025 * (y1 - y0), 1.0, 0.0, 0.0, text.c_str());  // left-justified: never clipped
         pls.col0(1);
       }
     }
