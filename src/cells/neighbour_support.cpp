@@ -46,13 +46,15 @@ class KthDistance {
   bool full() const { return n_ == k_; }
   std::size_t size() const { return n_; }
   float worstDist() const { return n_ < k_ ? bound_ : heap_[0]; }
-  // nanoflann calls this only for d2 < worstDist().
+  // nanoflann compares against worstDist() as it stood at the start of a
+  // leaf, so d2 may already exceed the current k-th distance: test again.
   bool addPoint(float d2, std::uint32_t) {
     if (n_ < k_) {
       heap_[n_++] = d2;
       if (n_ == k_) std::make_heap(heap_, heap_ + k_);
       return true;
     }
+    if (!(d2 < heap_[0])) return true;
     std::size_t i = 0;
     for (;;) {
       const std::size_t l = 2 * i + 1;
@@ -111,9 +113,9 @@ std::vector<float> neighbour_support_kpc(const std::vector<float>& x, const std:
   std::vector<std::uint64_t> key(n);
 #pragma omp parallel for num_threads(threads) schedule(static)
   for (std::ptrdiff_t i = 0; i < nn; ++i) {
-    const auto qx = static_cast<std::uint64_t>((x[i] - lo[0]) * q);
-    const auto qy = static_cast<std::uint64_t>((y[i] - lo[1]) * q);
-    const auto qz = static_cast<std::uint64_t>((z[i] - lo[2]) * q);
+    const auto qx = static_cast<std::uint64_t>(std::min(2097151.0, (double(x[i]) - lo[0]) * q));
+    const auto qy = static_cast<std::uint64_t>(std::min(2097151.0, (double(y[i]) - lo[1]) * q));
+    const auto qz = static_cast<std::uint64_t>(std::min(2097151.0, (double(z[i]) - lo[2]) * q));
     key[i] = spread3(qx) | spread3(qy) << 1 | spread3(qz) << 2;
   }
   std::vector<std::uint32_t> order(n);

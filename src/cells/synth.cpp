@@ -108,7 +108,11 @@ GasCells synthesise(const ClusterModel& model, int threads, SynthSummary* summar
     const float m = static_cast<float>(masses[task.comp] / static_cast<double>(count[task.comp]));
     core::RandomStream rs(model.seed, (static_cast<std::uint64_t>(task.comp) << 32) | task.block);
     for (std::size_t i = task.first; i < task.first + task.count; ++i) {
-      const double r = p.radius_at_mass_fraction(open_uniform(rs));
+      const double u = open_uniform(rs);
+      const double q = model.stratified_radii
+                           ? (static_cast<double>(i - first[task.comp]) + u) / static_cast<double>(count[task.comp])
+                           : u;
+      const double r = p.radius_at_mass_fraction(std::min(q, 1.0));
       const double mu = 2.0 * open_uniform(rs) - 1.0;
       const double phi = 2.0 * core::constants::kPi * open_uniform(rs);
       const double s = std::sqrt(std::max(0.0, 1.0 - mu * mu));

@@ -159,6 +159,7 @@ cells::ClusterModel read_cluster_model(const Section& s) {
   m.seed = static_cast<std::uint64_t>(s.integer("seed", 1, Range::closed(0.0, 9.0e15)));
   m.n_particles = static_cast<std::size_t>(s.integer("n_particles", 200000, Range::closed(100.0, 4.0e9)));
   m.k_neighbours = static_cast<int>(s.integer("k_neighbours", cells::kDefaultNeighbours, Range::closed(1.0, 10000.0)));
+  m.stratified_radii = s.choice("radial_sampling", {"stratified", "random"}, std::string("stratified")) == "stratified";
   if (static_cast<std::size_t>(m.k_neighbours) >= m.n_particles)
     s.fail("k_neighbours", "value " + std::to_string(m.k_neighbours) + " must be smaller than n_particles = " +
                                std::to_string(m.n_particles));
@@ -220,6 +221,7 @@ std::string cluster_model_yaml(const cells::ClusterModel& m) {
   o << "seed: " << m.seed << "\n";
   o << "n_particles: " << m.n_particles << "\n";
   o << "k_neighbours: " << m.k_neighbours << "\n";
+  o << "radial_sampling: " << (m.stratified_radii ? "stratified" : "random") << "\n";
   o << "abundance_set: " << m.abundance_set << "\n";
   if (m.redshift) o << "redshift: " << num(*m.redshift) << "\n";
   if (m.ra_deg) o << "ra_deg: " << num(*m.ra_deg) << "\n";
@@ -318,6 +320,8 @@ const char* synth_example_yaml() {
 name: Halvard-9               # model name (text; required)
 seed: 20240611                # random seed (integer >= 0; default 1): same seed, same particles
 n_particles: 300000           # particles of all components together (integer >= 100; default 200000)
+radial_sampling: stratified   # stratified (one particle per mass quantile: low-noise radial profile) |
+                              # random (independent draws); directions are random either way (default stratified)
 k_neighbours: 48              # kernel support = distance to the k-th nearest particle, itself
                               # counted (integer in [1, 10000], < n_particles; default 48)
 abundance_set: anders_grevesse_1989   # plasma composition, sets mu_e and n_e/n_H (default

@@ -79,6 +79,16 @@ void colorbar_label(PLINT axis, PLFLT value, char* label, PLINT length, PLPointe
   }
 }
 
+// Array index (0-based) -> world coordinates (arcmin offsets) for contours.
+struct GridTransform {
+  double x0 = 0.0, y0 = 0.0, step = 1.0;  // world coordinate of the first pixel's lower edge, pixel size
+};
+void grid_transform(PLFLT x, PLFLT y, PLFLT* tx, PLFLT* ty, PLPointer data) {
+  const auto* g = static_cast<const GridTransform*>(data);
+  *tx = g->x0 + (x + 0.5) * g->step;
+  *ty = g->y0 + (y + 0.5) * g->step;
+}
+
 StretchMap make_stretch(const core::ImageD& img, const QuicklookOptions& o) {
   std::vector<double> finite;
   finite.reserve(img.size());
@@ -119,6 +129,8 @@ void write_quicklook_png(const std::string& path, const core::ImageD& img, const
   if (!(img.pixel_arcsec() > 0.0)) throw core::DomainError(path + ": quicklook needs pixel_arcsec > 0");
   if (o.stretch == Stretch::Log && !std::isnan(o.vmin) && !(o.vmin > 0.0))
     throw core::DomainError(path + ": log stretch needs vmin > 0");
+  if (!o.overlay.empty() && !o.overlay.same_grid(img))
+    throw core::DomainError(path + ": quicklook overlay differs in shape from the image");
   const StretchMap sm = make_stretch(img, o);
 
   detail::TempOutput tmp(path);
@@ -166,6 +178,23 @@ void write_quicklook_png(const std::string& path, const core::ImageD& img, const
     pls.vpas(0.10, 0.80, 0.10, 0.90, aspect);
     pls.wind(x0, x1, y0, y1);
     pls.image(rows.data(), nx, ny, x0, x1, y0, y1, 0.0, 1.0, x0, x1, y0, y1);
+    if (!o.overlay.empty() && !o.overlay_levels.empty() && nx > 1 && ny > 1) {
+      std::vector<PLFLT> ostore(static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny));
+      std::vector<const PLFLT*> orows(static_cast<std::size_t>(nx));
+      for (int ix = 0; ix < nx; ++ix) {
+        PLFLT* r = ostore.data() + static_cast<std::size_t>(ix) * static_cast<std::size_t>(ny);
+        orows[static_cast<std::size_t>(ix)] = r;
+        for (int iy = 0; iy < ny; ++iy) r[iy] = std::isfinite(o.overlay(ix, iy)) ? o.overlay(ix, iy) : 0.0;
+      }
+      GridTransform gt{x0, y0, pa};
+      pls.scol0(3, o.overlay_rgb[0], o.overlay_rgb[1], o.overlay_rgb[2]);
+      pls.col0(3);
+      pls.width(1.5);
+      pls.cont(orows.data(), nx, ny, 1, nx, 1, ny, o.overlay_levels.data(),
+               static_cast<PLINT>(o.overlay_levels.size()), grid_transform, &gt);
+      pls.width(1.0);
+      pls.col0(1);
+    }
     pls.box("bcnst", 0.0, 0, "bcnstv", 0.0, 0);
     pls.lab("x offset [arcmin]", "y offset [arcmin]", o.title.c_str());
 
@@ -191,6 +220,39 @@ void write_quicklook_png(const std::string& path, const core::ImageD& img, const
         pls.ptex(bx, by + 0.025 * (y1 - y0), 1.0, 0.0, 0.0, text.c_str());  // left-justified: never clipped
         pls.col0(1);
       }
+    }
+
+    // Overlays (pixel -> world: 1-based pixel minus CRPIX, in arcmin).
+    if (!o.circles.empty() || !o.markers.empty()) {
+      pls.scol0(3, 120, 230, 255);  // circles
+      pls.scol0(4, 90, 255, 120);   // markers
+      const auto wx = [&](double x) { return (x + 1.0 - an.crpix1) * pa; };
+      const auto wy = [&](double y) { return (y + 1.0 - an.crpix2) * pa; };
+      pls.width(1.5);
+      pls.schr(0.0, 0.6);
+      pls.col0(3);
+      for (const auto& c : o.circles) {
+        if (!(c.radius_px > 0.0) || !std::isfinite(c.x) || !std::isfinite(c.y)) continue;
+        const double r = c.radius_px * pa;
+        pls.arc(wx(c.x), wy(c.y), r, r, 0.0, 360.0, 0.0, false);
+        const double ly = wy(c.y) + r + 0.01 * (y1 - y0);
+        if (!c.label.empty() && ly < y1) pls.ptex(wx(c.x), ly, 1.0, 0.0, 0.5, c.label.c_str());
+      }
+      pls.col0(4);
+      pls.ssym(0.0, 1.6);
+      for (const auto& m : o.markers) {
+        if (!std::isfinite(m.x) || !std::isfinite(m.y)) continue;
+        PLFLT px = wx(m.x), py = wy(m.y);
+        pls.poin(1, &px, &py, m.cross ? 5 : 2);
+        if (!m.label.empty()) {
+          const double dx = (m.label_left ? -0.015 : 0.015) * (x1 - x0);
+          pls.ptex(px + dx, py, 1.0, 0.0, m.label_left ? 1.0 : 0.0, m.label.c_str());
+        }
+      }
+      pls.ssym(0.0, 1.0);
+      pls.schr(0.0, 0.9);
+      pls.width(1.0);
+      pls.col0(1);
     }
 
     // Colour bar in stretched units, labelled with data values.

@@ -137,21 +137,28 @@ ColumnKernel::ColumnKernel(SphKernel k) : kind_(k) {
     accurate_lap_[static_cast<std::size_t>(j)] = column_laplacian_quadrature(k, S);
   }
 
-  // Fast table: the bin midpoints (2i+1)/(2 kFastBins) are accurate nodes.
-  static_assert(kAccurateNodes == 2 * kFastBins, "fast bins must sit on accurate nodes");
-  fast_.assign(2 * (static_cast<std::size_t>(kFastBins) + kFastPad), 0.0f);
+  // Fast table: nodes S^2 = i / kFastBins are accurate nodes 2i.
+  static_assert(kAccurateNodes == 2 * kFastBins, "fast nodes must sit on accurate nodes");
+  fast_.assign(4 * (static_cast<std::size_t>(kFastBins) + kFastPad), 0.0f);
+  // The corrected value F + c LapF is used with c = 1 / (24 h^2) <= 1 / kLapLimit
+  // (h >= 4 pixels); keep it non-negative at the nodes for every such c (the
+  // interpolant is then non-negative too). This acts only at the outer edge
+  // of the support, where F -> 0 faster than LapF.
+  auto fnode = [&](int i) { return static_cast<float>(accurate_[2 * static_cast<std::size_t>(i)]); };
+  auto lnode = [&](int i) {
+    return std::max(static_cast<float>(accurate_lap_[2 * static_cast<std::size_t>(i)]),
+                    -static_cast<float>(kLapLimit) * fnode(i));
+  };
   double sf = 0.0, sl = 0.0;
   for (int i = 0; i < kFastBins; ++i) {
-    const auto j = static_cast<std::size_t>(2 * i + 1);
-    const float f = static_cast<float>(accurate_[j]);
-    // The corrected value F + c LapF is used with c = 1 / (24 h^2) <= 1/24
-    // (h >= 1 pixel); keep it non-negative for every such c, which only
-    // matters where the correction would exceed the value itself.
-    const float l = std::max(static_cast<float>(accurate_lap_[j]), -24.0f * f);
-    fast_[2 * static_cast<std::size_t>(i)] = f;
-    fast_[2 * static_cast<std::size_t>(i) + 1] = l;
-    sf += static_cast<double>(fast_[2 * static_cast<std::size_t>(i)]);
-    sl += static_cast<double>(fast_[2 * static_cast<std::size_t>(i) + 1]);
+    const float f0 = fnode(i), f1 = fnode(i + 1), l0 = lnode(i), l1 = lnode(i + 1);
+    float* e = fast_.data() + 4 * static_cast<std::size_t>(i);
+    e[0] = f0;
+    e[1] = f1 - f0;
+    e[2] = l0;
+    e[3] = l1 - l0;
+    sf += static_cast<double>(e[0]) + 0.5 * static_cast<double>(e[1]);
+    sl += static_cast<double>(e[2]) + 0.5 * static_cast<double>(e[3]);
   }
   fast_sum_f_ = kPi * sf / kFastBins;
   fast_sum_lap_ = kPi * sl / kFastBins;

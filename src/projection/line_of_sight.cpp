@@ -18,17 +18,16 @@ LineOfSight LineOfSight::from_vector(const Eigen::Vector3d& dir) {
                             std::to_string(dir.x()) + ", " + std::to_string(dir.y()) + ", " +
                             std::to_string(dir.z()) + ")");
   const Eigen::Vector3d n = dir / len;
-  Eigen::Vector3d ev, eu;
-  const Eigen::Vector3d zhat = Eigen::Vector3d::UnitZ();
-  const Eigen::Vector3d up = zhat - n.dot(zhat) * n;  // projection of +z on the sky
-  if (up.norm() < 1e-9) {
-    // Looking along +-z: e_u = +x, e_v = n x e_u completes the right-handed frame.
-    eu = Eigen::Vector3d::UnitX();
-    ev = n.cross(eu);
-  } else {
-    ev = up.normalized();
-    eu = ev.cross(n);
-  }
+  // e_u = (z x n) / |z x n| = (-n_y, n_x, 0) / rho is horizontal; e_v = n x e_u
+  // is then the normalised sky projection of +z (n x (z x n) = z - n_z n).
+  // Written this way the frame stays orthonormal to rounding near the poles.
+  const double rho = std::hypot(n.x(), n.y());
+  Eigen::Vector3d eu;
+  if (rho < 1e-9)
+    eu = Eigen::Vector3d::UnitX();  // looking along +-z
+  else
+    eu = Eigen::Vector3d(-n.y() / rho, n.x() / rho, 0.0);
+  const Eigen::Vector3d ev = n.cross(eu);
   Eigen::Matrix3d R;
   R.row(0) = eu.transpose();
   R.row(1) = ev.transpose();

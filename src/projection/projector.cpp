@@ -44,7 +44,7 @@ struct Setup {
   int nx = 0, ny = 0, T = 64, shift = 6, ntx = 0, nty = 0, ntiles = 0;  // T = 1 << shift
   double umin = 0.0, vmin = 0.0, inv_pix = 1.0;
   bool point_only = false;
-  double exact_below = 3.0;
+  double exact_below = 10.0;
   double huge_area = 0.0;  // bounding-box area (pixels) above which the norm is analytic
   const ColumnKernel* ck = nullptr;
   int K = 1;
@@ -240,12 +240,15 @@ inline void sampled_chords(const KernelEntry& e, int rx0, int rx1, int ry0, int 
   }
 }
 
-// The weight of one sampled pixel: F + c LapF at S^2 kFast = d. Within a
-// chord d < kFast up to rounding, and the table's zero padding absorbs the
-// rounding; the table keeps F + c LapF >= 0 for c <= 1/24 (h >= 1).
+// The weight of one sampled pixel: F + c LapF at S^2 kFast = d, linearly
+// interpolated. Within a chord d < kFast up to rounding, and the table's zero
+// padding absorbs the rounding; the table keeps F + c LapF >= 0 for
+// c <= 1 / ColumnKernel::kLapLimit (h >= 4 >= exact_below_pixels).
 ICMSCOPE_ALWAYS_INLINE float sampled_weight(const float* tab, float d, float c) {
   const int i = static_cast<int>(d);
-  return tab[2 * i] + c * tab[2 * i + 1];
+  const float t = d - static_cast<float>(i);
+  const float* e = tab + 4 * i;
+  return (e[0] + t * e[1]) + c * (e[2] + t * e[3]);
 }
 
 template <typename Fn>
@@ -769,8 +772,10 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
   if (cells.n > 0 && (!cells.u || !cells.v)) throw DomainError("project: plane coordinates u, v are missing");
   if (cells.n > 0 && !point_only && !cells.support)
     throw DomainError("project: support radii are required for kernel deposit");
-  if (!(settings.exact_below_pixels >= 0.0) || settings.exact_below_pixels > 256.0)
-    throw DomainError("project: exact_below_pixels must be in [0, 256], got " +
+  // Below 4 pixels the centre-sampling correction is not used (see
+  // ColumnKernel::kLapLimit); above 256 the exact path's scratch grows large.
+  if (!(settings.exact_below_pixels >= 4.0) || settings.exact_below_pixels > 256.0)
+    throw DomainError("project: exact_below_pixels must be in [4, 256], got " +
                       std::to_string(settings.exact_below_pixels));
   const int tp = settings.tile_pixels;
   if (tp != 0 && (tp < 8 || tp > 256 || (tp & (tp - 1)) != 0))

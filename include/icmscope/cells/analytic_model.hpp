@@ -83,6 +83,11 @@ struct ClusterModel {
   std::size_t n_particles = 200000;  // all components together
   // Kernel support H = distance to the k-th nearest particle (itself counted).
   int k_neighbours = kDefaultNeighbours;
+  // Stratified radii: particle j of a component (j = 0..N-1) takes the mass
+  // fraction q = (j + u_j)/N with u_j uniform, so every mass quantile holds
+  // exactly one particle (variance reduction of the radial profile; directions
+  // stay isotropic and random). false: q = u_j, independent draws.
+  bool stratified_radii = true;
   // Abundance set of the plasma (emission::abundance_set names); it fixes
   // mu_e and n_e/n_H, and must match the set used for the emission.
   std::string abundance_set = "anders_grevesse_1989";

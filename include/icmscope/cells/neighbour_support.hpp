@@ -21,7 +21,7 @@
 
 namespace icmscope::cells {
 
-// x, y, z: positions [kpc], all of length n; k >= 1 and k <= n (DomainError
+// x, y, z: finite positions [kpc], all of length n; k >= 1 and k <= n (DomainError
 // otherwise). threads <= 0: the OpenMP default. Returns H [kpc] per particle.
 std::vector<float> neighbour_support_kpc(const std::vector<float>& x, const std::vector<float>& y,
                                          const std::vector<float>& z, int k, int threads = 0);

@@ -6,12 +6,28 @@
 // north-up map). The file is written under a temporary name and renamed.
 #include <limits>
 #include <string>
+#include <vector>
+#include <vector>
 
 #include "icmscope/core/image.hpp"
 
 namespace icmscope::io {
 
 enum class Stretch { Linear, Log, Asinh };
+
+// Overlays, in 0-based pixel coordinates of the image (pixel (ix, iy) is
+// centred on (ix, iy), as in core/image.hpp); drawn clipped to the map.
+struct QuicklookCircle {
+  double x = 0.0, y = 0.0;  // centre [pixels]
+  double radius_px = 0.0;
+  std::string label;        // written just above the circle ("" = none)
+};
+struct QuicklookMarker {
+  double x = 0.0, y = 0.0;  // [pixels]
+  std::string label;        // written beside the marker ("" = none)
+  bool cross = false;       // false: '+', true: 'x'
+  bool label_left = false;  // label to the left of the marker (default right)
+};
 
 struct QuicklookOptions {
   Stretch stretch = Stretch::Asinh;
@@ -31,8 +47,17 @@ struct QuicklookOptions {
   double kpc_per_arcsec = 0.0;
   double scale_bar_kpc = 0.0;
   bool show_scale_bar = true;
+  // Optional outline: contours of `overlay` (same shape as the image, e.g. an
+  // exposure map) at overlay_levels (data units of the overlay), drawn as thin
+  // lines in overlay colour (r, g, b), e.g. to show a field edge and chip gaps.
+  core::ImageD overlay;
+  std::vector<double> overlay_levels;
+  int overlay_rgb[3] = {0, 200, 255};
   int width_px = 800;
   int height_px = 680;
+  // Drawn over the map in a light cyan (circles) and green (markers).
+  std::vector<QuicklookCircle> circles;
+  std::vector<QuicklookMarker> markers;
 };
 
 // Throws core::DomainError for an empty image / bad options and

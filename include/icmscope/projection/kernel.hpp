@@ -48,6 +48,7 @@ class ColumnKernel {
  public:
   static constexpr int kFastBins = 4096;       // bins in S^2 in [0, 1)
   static constexpr int kFastPad = 16;          // zero entries after the last bin
+  static constexpr double kLapLimit = 384.0;   // 24 * 4^2: see fast()
   static constexpr int kAccurateNodes = 8192;  // intervals in S^2 of the accurate table
   static constexpr int kQuadrantCells = 128;   // cells per axis of the Q table on [0, 1]^2
 
@@ -69,19 +70,23 @@ class ColumnKernel {
   // (pixel integrals) are never negative.
   double quadrant_integral(double X, double Y) const;
 
-  // Hot-loop tables. fast(): 2 * (kFastBins + kFastPad) floats, pairs
-  // {F, LapF} at the midpoint of bin i = [i, i+1) / kFastBins in S^2; the
-  // kFastPad pairs from kFastBins on are {0, 0}, so an index that rounding
-  // pushes to or just past kFastBins yields zero without a clamp. LapF is
-  // limited to >= -24 F so that F + c LapF >= 0 for all 0 <= c <= 1/24.
+  // Hot-loop tables. fast(): 4 * (kFastBins + kFastPad) floats; bin i
+  // (S^2 in [i, i+1) / kFastBins) holds {F_i, F_{i+1} - F_i, L_i, L_{i+1} - L_i}
+  // with F_i, L_i = F, LapF at S^2 = i / kFastBins, so that at
+  // S^2 kFastBins = i + t the linear interpolant is
+  // (F_i + t dF_i) + c (L_i + t dL_i). The kFastPad bins from kFastBins on are
+  // zero, so an index that rounding pushes to or just past kFastBins yields
+  // zero without a clamp. L is limited to >= -kLapLimit F at the nodes so
+  // that the corrected value is >= 0 for all 0 <= c <= 1 / kLapLimit
+  // (c = 1 / (24 h^2) with h >= 4 pixels); the limit acts only near S = 1.
   const float* fast() const { return fast_.data(); }
   // quadrant(): (kQuadrantCells + 1)^2 doubles, Q at nodes (ix, iy) / kQ,
   // row-major [iy * (kQ + 1) + ix].
   const double* quadrant() const { return quadrant_.data(); }
 
-  // Int F_H d^2S of the fast table's piecewise-constant F (+ c LapF), i.e.
-  // pi / kFastBins * sum_i (F_i + c LapF_i); used to normalise footprints too
-  // large to sum over pixel by pixel.
+  // Int (F + c LapF) d^2S of the fast table's piecewise-linear interpolant
+  // (pi Int d(S^2)); used to normalise footprints too large to sum over
+  // pixel by pixel.
   double fast_integral(double laplacian_coefficient) const {
     return fast_sum_f_ + laplacian_coefficient * fast_sum_lap_;
   }

@@ -8,9 +8,10 @@
 //     looks along -e_w. Depth = w (kpc) relative to the centre.
 //   - (u, v) are image-plane coordinates (kpc): u along the image x axis
 //     (pixel ix grows with u), v along the image y axis.
-//   - "Up" rule: e_v is the image-plane projection of +z ("z up");
-//     e_u = e_v x e_w. When n is within 1e-9 of +-z the rule is undefined
-//     and e_u = +x is used instead (so n = +z gives u = x, v = y, w = z).
+//   - "Up" rule: e_v is the image-plane projection of +z ("z up"), so e_u
+//     is horizontal: e_u = (z x n) / |z x n|, e_v = n x e_u. When n is within
+//     1e-9 of +-z the rule is undefined and e_u = +x is used instead (so
+//     n = +z gives u = x, v = y, w = z).
 //   - Resulting axis views: along_axis(Z): (u, v, w) = (x, y, z);
 //     along_axis(X): (y, z, x); along_axis(Y): (-x, z, y).
 //     along_axis(a) == from_vector(unit vector of a) by construction.
