@@ -29,6 +29,9 @@ int run_measure(const std::vector<std::string>& args) {
   opts.add_options()
       ("help,h", "this text")
       ("example", "print a complete, commented MEASURE.yaml and exit")
+      ("observation", po::value<std::string>(),
+       "the products of `icmscope observe` by DIR/PREFIX: PREFIX_counts.fits, _exposure, _background, _model "
+       "(the expected counts); images named below take precedence")
       ("counts", po::value<std::string>(), "counts image FILE[HDU] (default HDU: COUNTS, else the first 2-D image)")
       ("exposure", po::value<std::string>(), "exposure map FILE[HDU] on the counts grid [s or cm**2 s]")
       ("background", po::value<std::string>(), "expected background counts per pixel FILE[HDU] (same grid)")
@@ -40,6 +43,7 @@ int run_measure(const std::vector<std::string>& args) {
       ("no-unit-check", "accept any BUNIT")
       ("name", po::value<std::string>(), "target name (default: OBJECT keyword, else the file name)")
       ("redshift", po::value<double>(), "redshift (default: the REDSHIFT keyword if any)")
+      ("no-header-redshift", "ignore the REDSHIFT keyword of the image")
       ("r500-kpc", po::value<double>(), "R500 [kpc]")
       ("m500-msun", po::value<double>(), "M500 [Msun]; R500 from it and the cosmology")
       ("centre-ra-deg", po::value<double>(), "given centre RA [deg] (with --centre-dec-deg; default: find)")
@@ -72,8 +76,8 @@ int run_measure(const std::vector<std::string>& args) {
     std::cout << config::measure_example_yaml();
     return 0;
   }
-  if (!vm.count("run") && !vm.count("counts"))
-    throw core::ConfigError("missing MEASURE.yaml or --counts FILE (see icmscope measure --help)");
+  if (!vm.count("run") && !vm.count("counts") && !vm.count("observation"))
+    throw core::ConfigError("missing MEASURE.yaml, --counts FILE or --observation PREFIX (see icmscope measure --help)");
   set_threads(vm["threads"].as<int>());
   config::MeasureRunSettings s;
   if (vm.count("run")) s = config::load_measure_run(vm["run"].as<std::string>());
@@ -110,6 +114,11 @@ int run_measure(const std::vector<std::string>& args) {
       in.mask_circle_files.push_back(f);
       note("inputs.mask_circles_csv", f);
     }
+  if (vm.count("observation")) {
+    in.observation = str("observation");
+    note("inputs.observation", in.observation);
+    config::resolve_observation(in);
+  }
   if (vm.count("no-unit-check")) {
     in.check_units = false;
     note("inputs.check_units", "false");
@@ -122,6 +131,7 @@ int run_measure(const std::vector<std::string>& args) {
     note(key, std::to_string(field));
   };
   num("redshift", t.redshift, "target.redshift");
+  if (vm.count("no-header-redshift")) t.header_redshift = false, note("target.header_redshift", "false");
   if (vm.count("r500-kpc")) t.m500_msun = 0.0;
   if (vm.count("m500-msun")) t.r500_kpc = 0.0;
   num("r500-kpc", t.r500_kpc, "target.r500_kpc");

@@ -191,6 +191,26 @@ std::vector<SkyCircle> read_sky_circles_csv(const std::string& path) {
   return out;
 }
 
+void resolve_observation(MeasureInputSettings& in) {
+  if (in.observation.empty()) return;
+  const std::string p = in.observation;
+  const auto exists = [](const std::string& f) {
+    std::error_code ec;
+    return std::filesystem::is_regular_file(f, ec);
+  };
+  if (!in.counts.given()) {
+    if (!exists(p + "_counts.fits"))
+      throw core::ConfigError("inputs.observation: " + p + "_counts.fits does not exist (expected the products of "
+                              "`icmscope observe` with this directory/prefix)");
+    in.counts = {p + "_counts.fits", "COUNTS"};
+  }
+  if (!in.exposure.given() && exists(p + "_exposure.fits")) in.exposure = {p + "_exposure.fits", "EXPOSURE"};
+  if (!in.background.given() && std::isnan(in.background_level) && !in.background_annulus &&
+      exists(p + "_background.fits"))
+    in.background = {p + "_background.fits", "BACKGROUND"};
+  if (!in.expected.given() && exists(p + "_model.fits")) in.expected = {p + "_model.fits", "MODEL"};
+}
+
 namespace {
 
 std::string key_path(const Section& s, const std::string& key) {
@@ -259,6 +279,7 @@ MeasureRunSettings load_measure_run(const std::string& path) {
   {
     const Section in = r.child("inputs");
     auto& i = m.inputs;
+    i.observation = in.has("observation") ? in.path_value("observation") : (in.accept("observation"), std::string());
     for (auto [key, ref] : {std::pair<const char*, ImageRef*>{"counts", &i.counts},
                             {"exposure", &i.exposure},
                             {"background", &i.background},
@@ -268,7 +289,6 @@ MeasureRunSettings load_measure_run(const std::string& path) {
       *ref = read_image_ref(in, key);
       if (textual) resolve_relative(*ref, path);
     }
-    if (!i.counts.given()) in.fail("counts", "missing required key (the counts image, FILE or FILE[HDU])");
     if (in.has("background_level_counts_per_pixel"))
       i.background_level = in.number("background_level_counts_per_pixel", std::nullopt, Range::non_negative());
     else
@@ -299,11 +319,15 @@ MeasureRunSettings load_measure_run(const std::string& path) {
     i.min_relative_exposure = in.number("min_relative_exposure", 0.0, Range::closed(0.0, 1.0));
     if (in.has("band_keV")) i.band_keV = in.numbers("band_keV", std::nullopt, Range::positive(), 2, 2);
     else in.accept("band_keV");
+    if (!i.observation.empty()) resolve_observation(i);
+    if (!i.counts.given())
+      in.fail("counts", "missing required key (the counts image, FILE or FILE[HDU]; or inputs.observation)");
   }
   if (const auto t = r.maybe_child("target")) {
     auto& g = m.target;
     g.name = t->text("name", std::string(""));
     g.redshift = t->number("redshift", 0.0, Range{0.0, 20.0, false, false});
+    g.header_redshift = t->flag("header_redshift", true);
     g.r500_kpc = t->number("r500_kpc", 0.0, Range::non_negative());
     g.m500_msun = t->number("m500_msun", 0.0, Range::non_negative());
     if (t->has("centre") && t->is_map("centre")) {
@@ -431,20 +455,24 @@ void check_measure_run(const MeasureRunSettings& s) {
 
 const char* measure_example_yaml() {
   return R"(# icmscope measure: morphology indicators of one counts image (simulated or real).
+# The images named here are the products of
+#   icmscope observe config/examples/observe_cool_core_vasta.yaml
 # Units are in the key names; apertures carry their unit in the value. Relative paths resolve against this
 # file's folder. Every key except inputs.counts is optional.
 
 inputs:
-  counts: maren7_obs.fits[COUNTS]   # FITS image of counts per pixel: FILE, FILE[EXTNAME] or FILE[HDU number]
-  exposure: maren7_obs.fits[EXPOSURE]  # exposure map on the same grid [s or cm**2 s]; zero = chip gap
-  # background: maren7_obs.fits[BACKGROUND]  # expected background counts per pixel (same grid) ...
+  counts: out/Maren-7_Vasta-LA_counts.fits[COUNTS]  # FITS image of counts per pixel: FILE, FILE[EXTNAME] or FILE[HDU number]
+  exposure: out/Maren-7_Vasta-LA_exposure.fits[EXPOSURE]  # exposure map on the same grid [s or cm**2 s]; zero = chip gap
+  # background: out/Maren-7_Vasta-LA_background.fits[BACKGROUND]  # expected background counts per pixel (same grid) ...
   # background_level_counts_per_pixel: 0.01 # ... or a flat level [count/pixel at full exposure] ...
-  background_annulus: "1.6/2.0 R500"  # ... or the mean level in an annulus about the centre
+  background_annulus: "720/820 arcsec"  # ... or the mean level in an annulus about the centre
   # mask: mask.fits                 # > 0.5 = good, else masked (same grid)
   mask_circles:                     # point sources etc. in sky coordinates (masked, then refilled)
     - {ra_deg: 148.650, dec_deg: 21.350, radius_arcsec: 15}
   # mask_circles_csv: sources.csv   # a CSV with columns ra_deg, dec_deg, radius_arcsec
-  # expected: maren7_obs.fits[EXPECTED]  # mocks: noise-free expected counts (realisations.source: expected)
+  # observation: out/Maren-7_Vasta-LA  # instead of the lines above: the products of `icmscope observe` with this
+  #                                 # directory/prefix (PREFIX_counts.fits, _exposure, _background, _model)
+  # expected: out/Maren-7_Vasta-LA_model.fits[MODEL]  # mocks: noise-free expected counts (realisations.source: expected)
   check_units: true                 # BUNIT must be counts (counts, background, expected) and s / cm**2 s (exposure)
   exposure_reference: 0             # relative exposure = map / this [map unit]; 0 = the map's maximum
   min_relative_exposure: 0.0        # pixels with relative exposure <= this are gaps
@@ -453,6 +481,7 @@ inputs:
 target:
   name: Maren-7                     # default: the OBJECT keyword, else the file name
   redshift: 0.08                    # default: the header's REDSHIFT; without any, apertures in arcsec or px only
+  header_redshift: true             # false: ignore the REDSHIFT keyword
   m500_msun: 5.5e14                 # R500 from M500 and the cosmology ... (or r500_kpc: 1200)
   centre: find                      # find (peak of the smoothed image) | {ra_deg: .., dec_deg: ..}
   # centre: {ra_deg: 148.62, dec_deg: 21.37, search_radius: "50 kpc"}  # guess + search for the peak
@@ -496,9 +525,9 @@ flags:
   min_pixel_sn: 3                   # flag a lower mean S/N per pixel for Gini / M20
 
 output:
-  json: maren7_measure.json         # machine-readable, every number at full precision
-  csv: maren7_measure.csv
-  quicklook: maren7_measure.png     # the image with the centre and the apertures
+  json: out/Maren-7_measure.json         # machine-readable, every number at full precision
+  csv: out/Maren-7_measure.csv
+  quicklook: out/Maren-7_measure.png     # the image with the centre and the apertures
   stretch: asinh                    # asinh | log | linear
   table: true                       # the readable table on stdout
 )";

@@ -107,10 +107,19 @@ void write_event_file(const std::string& path, const instrument::EventList& ev, 
     key_str(f.get(), "HDUCLASS", "OGIP", "format conforms to OGIP standard", ctx);
     key_str(f.get(), "HDUCLAS1", "EVENTS", "photon event list", ctx);
     key_str(f.get(), "HDUCLAS2", "ALL", "all events (simulated)", ctx);
-    detail::write_keywords(f.get(), s.keywords, ctx);
+    // DATE-OBS / MJD-OBS are image-header keywords; in a table they would read as
+    // column WCS keywords of the wrong form: primary header only.
+    std::vector<FitsKeyword> table_keys;
+    for (const auto& k : s.keywords) {
+      const std::string u = detail::fits_upper(k.key);
+      if (u != "DATE-OBS" && u != "MJD-OBS") table_keys.push_back(k);
+    }
+    detail::write_keywords(f.get(), table_keys, ctx);
     time_keys(f.get(), s, ontime, ctx);
     const auto& a = ev.anchor;
-    key_str(f.get(), "RADESYS", "ICRS", "celestial reference frame of the column WCS", ctx);
+    // RADESYS in its pixel-list form RADEna (Greisen & Calabretta 2002, Table 2).
+    key_str(f.get(), "RADE2", "ICRS", "celestial reference frame of X/Y", ctx);
+    key_str(f.get(), "RADE3", "ICRS", "celestial reference frame of X/Y", ctx);
     key_str(f.get(), "TCTYP2", "RA---TAN", "sky X: gnomonic RA", ctx);
     key_str(f.get(), "TCUNI2", "deg", "", ctx);
     key_dbl(f.get(), "TCRVL2", a.ra_deg, "[deg] RA at the reference pixel", ctx);
@@ -158,7 +167,7 @@ void write_event_file(const std::string& path, const instrument::EventList& ev, 
     key_str(f.get(), "HDUCLASS", "OGIP", "format conforms to OGIP standard", ctx);
     key_str(f.get(), "HDUCLAS1", "GTI", "good time intervals", ctx);
     key_str(f.get(), "HDUCLAS2", "STANDARD", "", ctx);
-    detail::write_keywords(f.get(), s.keywords, ctx);
+    detail::write_keywords(f.get(), table_keys, ctx);
     time_keys(f.get(), s, ontime, ctx);
     std::vector<double> start, stop;
     for (const auto& g : s.gti) {

@@ -455,7 +455,7 @@ MeasureReport measure_images(const MeasureImages& im, const config::MeasureRunSe
   if (s.target.redshift > 0.0) {
     r.redshift = s.target.redshift;
     r.redshift_source = "target.redshift";
-  } else {
+  } else if (s.target.header_redshift) {
     std::string where;
     const auto z = keyword_number(im, "REDSHIFT", &where);
     if (z && *z > 0.0) {
@@ -465,6 +465,8 @@ MeasureReport measure_images(const MeasureImages& im, const config::MeasureRunSe
     } else {
       r.redshift_source = "unknown";
     }
+  } else {
+    r.redshift_source = "unknown (header REDSHIFT ignored)";
   }
   if (r.redshift > 0.0) {
     r.kpc_per_arcsec = cosmo.kpc_per_arcsec(r.redshift);
@@ -775,9 +777,10 @@ void write_quicklook(const std::string& path, const MeasureReport& r, const Meas
     radii.push_back({a.outer_px, lab});
   }
   std::sort(radii.begin(), radii.end());
+  const double small = 0.04 * std::max(c.nx(), c.ny());  // unlabelled: labels of small circles would overlap
   for (std::size_t k = 0; k < radii.size(); ++k) {
     if (k > 0 && std::fabs(radii[k].first - radii[k - 1].first) < 0.5) continue;
-    o.circles.push_back({px, py, radii[k].first, radii[k].second});
+    o.circles.push_back({px, py, radii[k].first, radii[k].first < small ? std::string() : radii[k].second});
   }
   o.markers.push_back({px, py, "peak", false, true});
   o.markers.push_back({r.centroid.x - 1.0, r.centroid.y - 1.0, "centroid", true, false});

@@ -137,16 +137,17 @@ ColumnKernel::ColumnKernel(SphKernel k) : kind_(k) {
     accurate_lap_[static_cast<std::size_t>(j)] = column_laplacian_quadrature(k, S);
   }
 
-  // Fast table: nodes S^2 = i / kFastBins are accurate nodes 2i.
-  static_assert(kAccurateNodes == 2 * kFastBins, "fast nodes must sit on accurate nodes");
+  // Fast table: nodes S^2 = i / kFastBins are accurate nodes i * kStride.
+  static_assert(kAccurateNodes % kFastBins == 0, "fast nodes must sit on accurate nodes");
+  constexpr std::size_t kStride = kAccurateNodes / kFastBins;
   fast_.assign(4 * (static_cast<std::size_t>(kFastBins) + kFastPad), 0.0f);
   // The corrected value F + c LapF is used with c = 1 / (24 h^2) <= 1 / kLapLimit
   // (h >= 4 pixels); keep it non-negative at the nodes for every such c (the
   // interpolant is then non-negative too). This acts only at the outer edge
   // of the support, where F -> 0 faster than LapF.
-  auto fnode = [&](int i) { return static_cast<float>(accurate_[2 * static_cast<std::size_t>(i)]); };
+  auto fnode = [&](int i) { return static_cast<float>(accurate_[kStride * static_cast<std::size_t>(i)]); };
   auto lnode = [&](int i) {
-    return std::max(static_cast<float>(accurate_lap_[2 * static_cast<std::size_t>(i)]),
+    return std::max(static_cast<float>(accurate_lap_[kStride * static_cast<std::size_t>(i)]),
                     -static_cast<float>(kLapLimit) * fnode(i));
   };
   double sf = 0.0, sl = 0.0;

@@ -492,16 +492,24 @@ ICMSCOPE_ALWAYS_INLINE void exact_3x3(const double* __restrict Q, double fx, dou
   const double Ma = edge(ia, fa), Mb = edge(ib, fb), Na = edge(ja, ga), Nb = edge(jb, gb);
   const double Qaa = bil(ia, fa, ja, ga), Qab = bil(ia, fa, jb, gb);
   const double Qba = bil(ib, fb, ja, ga), Qbb = bil(ib, fb, jb, gb);
-  // P[row][col], rows Y = -1, -fy/h, (1-fy)/h, 1; cols X likewise.
-  const double P[4][4] = {{q11, Ma, -Mb, -q11},
-                          {Na, Qaa, -Qba, -Na},
-                          {-Nb, -Qab, Qbb, Nb},
-                          {-q11, -Ma, Mb, q11}};
-  for (int r = 0; r < 3; ++r)
-    for (int c = 0; c < 3; ++c) {
-      const double v = (P[r + 1][c + 1] - P[r + 1][c]) - (P[r][c + 1] - P[r][c]);
-      W[3 * r + c] = v > 0.0 ? v : 0.0;
-    }
+  // Corner values P[row][col], rows Y = -1, -fy/h, (1-fy)/h, 1, columns X
+  // likewise:  row 0 { q11, Ma, -Mb, -q11},  row 1 { Na, Qaa, -Qba, -Na},
+  //            row 2 {-Nb, -Qab, Qbb, Nb},   row 3 = -row 0.
+  // D = differences along each row, W = differences of D between rows,
+  // clamped at 0 (rounding can leave a zero weight at -1e-17; the sum still
+  // telescopes to 1 to rounding).
+  const double d00 = Ma - q11, d01 = -Mb - Ma, d02 = Mb - q11;
+  const double d10 = Qaa - Na, d11 = -Qba - Qaa, d12 = Qba - Na;
+  const double d20 = Nb - Qab, d21 = Qbb + Qab, d22 = Nb - Qbb;
+  W[0] = std::max(d10 - d00, 0.0);
+  W[1] = std::max(d11 - d01, 0.0);
+  W[2] = std::max(d12 - d02, 0.0);
+  W[3] = std::max(d20 - d10, 0.0);
+  W[4] = std::max(d21 - d11, 0.0);
+  W[5] = std::max(d22 - d12, 0.0);
+  W[6] = std::max(-d00 - d20, 0.0);
+  W[7] = std::max(-d01 - d21, 0.0);
+  W[8] = std::max(-d02 - d22, 0.0);
 }
 
 // ---- tile deposit ------------------------------------------------------------
@@ -539,7 +547,8 @@ struct ChunkData {
 };
 
 template <int KT>
-void deposit_tile(const Setup& S, int t, const ChunkData& cd, Scratch& s, std::vector<std::vector<double>>& maps) {
+void deposit_tile(const Setup& Sref, int t, const ChunkData& cd, Scratch& s, std::vector<std::vector<double>>& maps) {
+  const Setup S = Sref;  // private copy (see pass 1)
   const int K = KT > 0 ? KT : S.K;
   const std::size_t p0 = cd.startP[static_cast<std::size_t>(t)], p1 = cd.startP[static_cast<std::size_t>(t) + 1];
   const std::size_t k0 = cd.startK[static_cast<std::size_t>(t)], k1 = cd.startK[static_cast<std::size_t>(t) + 1];
@@ -792,7 +801,7 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
   S.inv_pix = 1.0 / grid.pixel_kpc;
   S.point_only = point_only;
   S.exact_below = settings.exact_below_pixels;
-  S.huge_area = std::max(4.0 * static_cast<double>(grid.nx) * grid.ny, 4194304.0);
+  S.huge_area = std::min(std::max(4.0 * static_cast<double>(grid.nx) * grid.ny, 4194304.0), 67108864.0);
   if (!point_only) {
     S.ck = &ColumnKernel::get(settings.kernel == DepositKernel::WendlandC2 ? SphKernel::WendlandC2
                                                                           : SphKernel::CubicSpline);
@@ -816,6 +825,7 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
   S.nty = (grid.ny + S.T - 1) / S.T;
   S.ntiles = S.ntx * S.nty;
 
+  const Setup& Sglobal = S;
   std::vector<std::vector<double>> maps(static_cast<std::size_t>(K));
   for (auto& m : maps) m.assign(grid.pixels(), 0.0);
   ProjectionStats st;
@@ -890,6 +900,9 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
     // ---- pass 1: classify, count entries per (sub-block, tile) ----
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
     for (int sb = 0; sb < nsub; ++sb) {
+      // A private copy: the counter stores (unsigned) could otherwise alias
+      // the int members and force reloads in the hot loop.
+      const Setup S = Sglobal;
       const core::BlockRange r = core::block_range(nc, nsub, sb);
       std::uint32_t* cp = cd.cntP.data() + static_cast<std::size_t>(sb) * ntiles;
       std::uint32_t* cs = cd.cntS.data() + static_cast<std::size_t>(sb) * ntiles;
@@ -1016,6 +1029,7 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
     std::size_t cp_n = 0, cs_n = 0, ce_n = 0, ca_n = 0, ch_n = 0;
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads) reduction(+ : cp_n, cs_n, ce_n, ca_n, ch_n)
     for (int sb = 0; sb < nsub; ++sb) {
+      const Setup S = Sglobal;
       Scratch& s = scratch[static_cast<std::size_t>(thread_id())];
       const core::BlockRange r = core::block_range(nc, nsub, sb);
       std::uint32_t* cp = cd.cntP.data() + static_cast<std::size_t>(sb) * ntiles;
@@ -1131,7 +1145,7 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
 
     // ---- pass 3: deposit tile by tile ----
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
-    for (int t = 0; t < ntiles; ++t) tile_fn(S, t, cd, scratch[static_cast<std::size_t>(thread_id())], maps);
+    for (int t = 0; t < ntiles; ++t) tile_fn(Sglobal, t, cd, scratch[static_cast<std::size_t>(thread_id())], maps);
   }
 
   if (stats) {

@@ -292,7 +292,8 @@ TEST_CASE("projector: edge clipping loses only the part outside the field", "[pr
 TEST_CASE("projector: a footprint much larger than the field", "[projector]") {
   // A cell with H = 5000 pixels centred 1000 pixels off a 64^2 field: the
   // field receives the column kernel's integral over it (normalised by the
-  // continuum integral, documented as ~1e-6).
+  // continuum integral of the table, documented to ~1e-8; the reference
+  // samples the accurate table, which differs from the fast one by ~1e-7).
   pj::ProjectionGrid g;
   g.nx = g.ny = 64;
   g.pixel_kpc = 1.0;
@@ -309,7 +310,7 @@ TEST_CASE("projector: a footprint much larger than the field", "[projector]") {
       const double x = ix + 0.5 - 32.0 - 1000.0, y = iy + 0.5 - 32.0 + 300.0;
       ref += ck.value_s2((x * x + y * y) / (5000.0 * 5000.0)) / (5000.0 * 5000.0);
     }
-  CHECK(sum(m[0]) == Approx(ref).epsilon(1e-5));
+  CHECK(sum(m[0]) == Approx(ref).epsilon(1e-6));
 }
 
 TEST_CASE("projector: bitwise identical maps for 1 and 2 threads", "[projector][threads]") {

@@ -55,8 +55,36 @@ TEST_CASE("every shipped YAML file runs", "[examples]") {
     if (keys.count("components")) {
       // An analytic cluster model: synthesise a small version.
       cmd = exe() + " synth -q '" + f.string() + "' -o '" + (out / "cells.h5").string() + "' --particles 20000";
+    } else if (keys.count("observation")) {
+      // An observe RUN file (cells or a maps file, through an instrument).
+      cmd = exe() + " observe -q '" + f.string() + "' --output-dir '" + out.string() + "'";
     } else if (keys.count("target") && keys.count("cells")) {
       cmd = exe() + " project -q '" + f.string() + "' --output-dir '" + out.string() + "'";
+    } else if (keys.count("effective_area") && keys.count("psf")) {
+      // An instrument file: a tiny observation of a small beta model, on a grid
+      // a little wider than the field so the edge and the gaps are exercised.
+      const auto model = out / "beta.yaml";
+      std::ofstream(model) << "name: tiny\nseed: 5\nn_particles: 4000\ncomponents:\n  - name: c\n"
+                              "    r_max_kpc: 1500\n"
+                              "    density: {profile: beta, r_c_kpc: 150, beta: 0.67, n_e0_cm3: 4.0e-3}\n"
+                              "    temperature: {profile: isothermal, kT_keV: 5}\n";
+      const auto run = out / "run.yaml";
+      std::ofstream(run) << "target: {name: tiny, redshift: 0.1, ra_deg: 10, dec_deg: -20}\n"
+                         << "cells: {model: beta.yaml}\n"
+                         << "emission: {table_kT_points: 32, table_Z_points: 2}\n"
+                         << "map: {pixels: 48, width_arcmin: 70}\n"
+                         << "observation: {instrument: '" << f.string()
+                         << "', exposure_ks: 2, seed: 1, point_sources: true}\n"
+                         << "output: {directory: '" << out.string() << "', quicklook: true}\n";
+      cmd = exe() + " observe -q '" + run.string() + "'";
+    } else if (keys.count("inputs")) {
+      // A measure file: its images are the products of the observe example it
+      // names (out/Maren-7_Vasta-LA_*), made here first with fewer particles.
+      fs::copy_file(f, out / f.filename());
+      fs::copy(source_dir() / "config" / "examples" / "data", out / "data");
+      cmd = exe() + " observe -q '" + (source_dir() / "config" / "examples" / "observe_cool_core_vasta.yaml").string() +
+            "' --output-dir '" + (out / "out").string() + "' --particles 20000 --no-events && " + exe() +
+            " measure -q --no-table '" + (out / f.filename()).string() + "'";
     } else {
       FAIL("no rule runs " << f << ": add one to tests/pipeline/test_examples.cpp");
     }
@@ -65,7 +93,7 @@ TEST_CASE("every shipped YAML file runs", "[examples]") {
     INFO(f << "\n" << cmd << "\n" << text);
     CHECK(status == 0);
     bool wrote = false;
-    for (const auto& e : fs::directory_iterator(out)) wrote = wrote || e.file_size() > 0;
+    for (const auto& e : fs::directory_iterator(out)) wrote = wrote || (e.is_regular_file() && e.file_size() > 0);
     CHECK(wrote);
   }
 }
@@ -99,6 +127,38 @@ TEST_CASE("each verb's --example output parses and runs", "[examples]") {
   CHECK(st == 0);
 }
 
+TEST_CASE("the printed observe example runs", "[examples]") {
+  // The printed example names a demo model and a preset relative to
+  // config/examples: rebuild that layout in the scratch folder.
+  const auto out = scratch_dir("examples_printed_observe");
+  int st = 0;
+  const std::string run = run_capture(exe() + " observe --example", &st);
+  REQUIRE(st == 0);
+  fs::create_directories(out / "config" / "examples");
+  fs::create_directories(out / "demo_clusters" / "models");
+  fs::copy(source_dir() / "config" / "instruments", out / "config" / "instruments");
+  fs::copy_file(source_dir() / "demo_clusters" / "models" / "maren7_cool_core.yaml",
+                out / "demo_clusters" / "models" / "maren7_cool_core.yaml");
+  const auto printed = out / "config" / "examples" / "printed.yaml";
+  { std::ofstream(printed) << run; }
+  const std::string text = run_capture(exe() + " observe -q '" + printed.string() + "' --output-dir '" +
+                                           out.string() + "' --particles 20000 2>&1",
+                                       &st);
+  INFO(text);
+  CHECK(st == 0);
+  CHECK(fs::exists(out / "Maren-7_vasta_events.fits"));
+  // The printed instrument example is a complete instrument file.
+  const std::string inst = run_capture(exe() + " observe --instrument-example", &st);
+  REQUIRE(st == 0);
+  { std::ofstream(out / "config" / "instruments" / "printed.yaml") << inst; }
+  const std::string rate = run_capture(exe() + " rate --kT-keV 5 --instrument '" +
+                                           (out / "config" / "instruments" / "printed.yaml").string() + "' 2>&1",
+                                       &st);
+  INFO(rate);
+  CHECK(st == 0);
+  CHECK(rate.find("Example-CCD") != std::string::npos);
+}
+
 TEST_CASE("command-line errors are one line and non-zero", "[examples][cli]") {
   int st = 0;
   std::string t = run_capture(exe() + " nosuchverb 2>&1", &st);
@@ -108,6 +168,17 @@ TEST_CASE("command-line errors are one line and non-zero", "[examples][cli]") {
   CHECK(st != 0);
   CHECK(std::count(t.begin(), t.end(), '\n') == 1);
   CHECK(t.find("/nonexistent/run.yaml") != std::string::npos);
+  t = run_capture(exe() + " observe /nonexistent/run.yaml 2>&1", &st);
+  CHECK(st != 0);
+  CHECK(std::count(t.begin(), t.end(), '\n') == 1);
+  t = run_capture(exe() + " rate --kT-keV -3 2>&1", &st);
+  CHECK(st != 0);
+  CHECK(std::count(t.begin(), t.end(), '\n') == 1);
+  CHECK(t.find("--kT-keV") != std::string::npos);
+  t = run_capture(exe() + " rate --kT-keV 5 --instrument /nonexistent/inst.yaml 2>&1", &st);
+  CHECK(st != 0);
+  CHECK(std::count(t.begin(), t.end(), '\n') == 1);
+  CHECK(t.find("/nonexistent/inst.yaml") != std::string::npos);
   t = run_capture(exe() + " synth --bogus 2>&1", &st);
   CHECK(st != 0);
   t = run_capture(exe() + " --version", &st);

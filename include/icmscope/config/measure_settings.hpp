@@ -54,6 +54,11 @@ struct SkyCircle {
 std::vector<SkyCircle> read_sky_circles_csv(const std::string& path);
 
 struct MeasureInputSettings {
+  // The products of one `observe` run, by their prefix (directory/prefix):
+  // PREFIX_counts.fits[COUNTS], PREFIX_exposure.fits[EXPOSURE],
+  // PREFIX_background.fits[BACKGROUND], PREFIX_model.fits[MODEL] (the
+  // expected counts); images named explicitly below take precedence.
+  std::string observation;
   ImageRef counts;       // required: counts per pixel
   ImageRef exposure;     // optional, same grid: exposure map [s or cm^2 s]
   ImageRef background;   // optional, same grid: expected background counts per pixel
@@ -73,6 +78,7 @@ struct MeasureInputSettings {
 struct MeasureTargetSettings {
   std::string name;              // "" = OBJECT keyword, else the counts file stem
   double redshift = 0.0;         // 0 = take the header's REDSHIFT if any, else unknown
+  bool header_redshift = true;   // false: ignore the REDSHIFT keyword
   double r500_kpc = 0.0;         // 0 = unknown (or from m500_msun)
   double m500_msun = 0.0;        // 0 = unknown
   bool find_centre = true;
@@ -132,6 +138,10 @@ struct MeasureRunSettings {
   std::string resolved_yaml;   // resolved configuration (defaults marked) + command-line overrides
   std::string config_hash;
 };
+
+// Fills the images of `observation` that are not set (counts must exist,
+// the others are used when their files exist). ConfigError naming the prefix.
+void resolve_observation(MeasureInputSettings& in);
 
 // Reads a whole MEASURE.yaml (strict: unknown keys rejected), then checks it.
 MeasureRunSettings load_measure_run(const std::string& path);

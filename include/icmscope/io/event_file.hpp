@@ -5,8 +5,8 @@
 //     grid the events belong to), RA, DEC (1D, deg), ENERGY (1E, keV), PI (1J),
 //     COMPONENT (1B, the simulation's component tag), with
 //     - the sky WCS of X/Y as column keywords TCTYPn (RA---TAN / DEC--TAN),
-//       TCUNIn (deg), TCRVLn, TCRPXn, TCDLTn (-pixel/3600, +pixel/3600), RADESYS ICRS
-//       (Calabretta & Greisen 2002 pixel-list convention);
+//       TCUNIn (deg), TCRVLn, TCRPXn, TCDLTn (-pixel/3600, +pixel/3600), ICRS
+//       (pixel-list convention of Greisen & Calabretta 2002; RADESYS as RADE2 / RADE3);
 //     - TLMIN = 0.5, TLMAX = N + 0.5 on X and Y (so binned images keep CRPIX),
 //       TLMIN / TLMAX of PI = the channel range;
 //     - HDUCLASS OGIP, HDUCLAS1 EVENTS, TSTART, TSTOP, EXPOSURE (live time),

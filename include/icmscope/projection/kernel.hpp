@@ -46,7 +46,7 @@ double column_laplacian_quadrature(SphKernel k, double S);
 
 class ColumnKernel {
  public:
-  static constexpr int kFastBins = 4096;       // bins in S^2 in [0, 1)
+  static constexpr int kFastBins = 1024;       // bins in S^2 in [0, 1) (16 KiB: stays in L1)
   static constexpr int kFastPad = 16;          // zero entries after the last bin
   static constexpr double kLapLimit = 384.0;   // 24 * 4^2: see fast()
   static constexpr int kAccurateNodes = 8192;  // intervals in S^2 of the accurate table

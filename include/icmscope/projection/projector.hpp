@@ -31,18 +31,24 @@
 // 128^2 cumulative table) and within ~2e-4 (h = 10) falling as h^-4 (~5e-5 at
 // h = 15, ~1e-6 at h = 45) for centre sampling; tests/physics/test_projector.cpp.
 // Footprints too large to sum pixel by pixel (bounding box over
-// max(4 nx ny, 2^22) pixels, i.e. much larger than the field) are
-// normalised with the table's continuum integral instead (relative error of
-// the deposited total ~1e-6).
+// min(max(4 nx ny, 2^22), 2^26) pixels, i.e. much larger than the field) are
+// normalised with the table's continuum integral instead (the lattice sum
+// differs from it by ~1e-9, so such a cell's deposit is conserved to ~1e-8).
 //
-// Determinism and threads: the field is cut into square tiles; cells are
-// binned (stable counting sort) into every tile their footprint overlaps, and
-// each tile is deposited by one thread in cell order into a private tile
-// buffer that is then added to the maps. Every pixel therefore receives its
+// Determinism and threads: the field is cut into square tiles (64 pixels by
+// default); cells are binned (stable counting sort) into every tile their
+// footprint overlaps, and each tile is deposited by one thread, in cell
+// order, into a private tile buffer that is then added to the maps (each map
+// pixel belongs to one tile). Every pixel therefore receives its
 // contributions in an order fixed by the data alone: the maps are bitwise
-// identical for any thread count. Cells are processed in chunks whose size
-// depends only on the data and the settings, bounding the working memory
-// (chunk_bytes of tile-sorted copies plus one tile buffer per thread).
+// identical for any thread count. This replaces core::blocked_accumulate,
+// whose fixed blocks would each need a full nx * ny * K buffer (16 x 8 MiB
+// per channel at 1024^2, zeroed and summed every call) and would scatter
+// randomly over the whole map; tiles keep the accumulation in cache and need
+// no per-block maps. Cells are processed in chunks whose size depends only on
+// the data and the settings, bounding the working memory (about chunk_bytes
+// of tile-sorted copies, plus one tile buffer per thread) independently of
+// the number of cells.
 #include <cstddef>
 #include <cstdint>
 #include <vector>
