@@ -55,7 +55,7 @@ def observe(name, model, z, ra, dec, exp, seed, points, work):
 target: {{name: {name}, redshift: {z}, ra_deg: {ra}, dec_deg: {dec}}}
 cells: {{model: {os.path.join(MODELS, model)}, model_particles: 100000}}
 emission: {{band_keV: [0.5, 2.0], nH_cm2: 3.0e20}}
-map: {{pixels: 256, pixel_arcsec: 4.0}}
+map: {{pixels: 384, pixel_arcsec: 4.0}}
 observation:
   instrument: {INSTR}
   exposure_ks: {exp}

@@ -866,9 +866,9 @@ const char* survey_example_yaml() {
 # paths resolve against this file's folder (CSV listings: against the CSV file's folder).
 
 survey:
-  name: demo                     # names the output folder (default <name>_survey) and the catalog
+  name: example                  # names the output folder (default <name>_survey) and the catalog
   seed: 2026                     # every target's seed derives from this and the target id
-  output_directory: demo_survey  # default: <name>_survey beside this file
+  output_directory: example_survey  # default: <name>_survey beside this file
   threads: 0                     # targets in parallel (0 = all cores; --threads overrides)
   # entries_csv: more_clusters.csv   # optional CSV listing of more entries (columns in the README)
 

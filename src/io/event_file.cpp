@@ -3,8 +3,10 @@
 
 #include <fitsio.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <string>
 #include <vector>
 

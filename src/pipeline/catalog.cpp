@@ -228,6 +228,10 @@ Catalog assemble_catalog(const std::vector<CatalogRow>& rows) {
     }
   for (auto& col : c.columns)
     if (col.type == CellType::integer && present[col.name] != rows.size()) col.type = CellType::real;
+  if (c.columns.empty()) {  // no row yet: the identifying columns, so that the files are still valid tables
+    c.columns.push_back({"target_index", "", CellType::integer});
+    c.columns.push_back({"target_id", "", CellType::text});
+  }
   return c;
 }
 

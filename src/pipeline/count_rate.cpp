@@ -1,7 +1,6 @@
 #include "icmscope/pipeline/count_rate.hpp"
 
 #include <cstdio>
-#include <memory>
 #include <sstream>
 
 #include "icmscope/config/instrument_settings.hpp"

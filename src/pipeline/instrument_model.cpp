@@ -168,15 +168,15 @@ InstrumentModel build_instrument(const config::InstrumentSettings& s, double nH_
 void area_folding_curve(const InstrumentModel& m, std::vector<double>& E, std::vector<double>& A) {
   // EffectiveArea::at() is linear between its nodes and constant from the end
   // nodes to the outer edges. The nodes are the table's points, the OGIP bin
-  // centres or the analytic curve's geometric bin centres; adding the bin edges
-  // (which lie on the linear pieces) gives a folding curve whose linear
-  // interpolation is exactly at().
+  // centres or the analytic curve's geometric bin centres; with the two outer
+  // edges added, linear interpolation of these points is exactly at().
   E.clear();
   A.clear();
   const auto& a = m.area;
   const auto& ed = a.edges_keV();
   const std::string& kind = m.settings.area.kind;
-  std::vector<double> pts(ed.begin(), ed.end());
+  std::vector<double> pts;
+  if (!ed.empty()) pts = {std::max(ed.front(), 1e-6), ed.back()};  // a zero first edge: start just above it
   if (kind == "table") {
     pts.insert(pts.end(), m.settings.area.energy_keV.begin(), m.settings.area.energy_keV.end());
   } else {

@@ -278,6 +278,7 @@ std::string measure_json(const MeasureReport& r) {
   for (const auto& n : r.notes) j.raw(jstr(n));
   j.close(']');
   j.str("config_hash", r.config_hash);
+  j.str("configuration", r.configuration);
   j.num("seconds", r.seconds);
   j.close('}');
   return j.text();

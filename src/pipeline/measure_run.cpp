@@ -445,6 +445,7 @@ MeasureReport measure_images(const MeasureImages& im, const config::MeasureRunSe
   r.ny = NY;
   r.pixel_arcsec = wcs.pixel_scale_arcsec();
   r.config_hash = s.config_hash;
+  r.configuration = s.resolved_yaml;
   // Target name.
   r.target = s.target.name;
   if (r.target.empty()) r.target = keyword(im, "OBJECT");
@@ -743,7 +744,7 @@ void write_quicklook(const std::string& path, const MeasureReport& r, const Meas
   for (std::size_t i = 0; i < c.size(); ++i) img.pixels()[i] = e[i] > 0.0 && std::isfinite(c.pixels()[i]) ? c.pixels()[i] / e[i] : 0.0;
   double sigma = 1.0;
   for (const auto& a : r.apertures)
-    if (a.indicator == "peak smoothing") sigma = a.outer_px;
+    if (a.indicator == "peak smoothing") sigma = std::max(1.5, a.outer_px);  // display: at least 1.5 px
   std::vector<double> tmp;
   core::ImageD sm(c.nx(), c.ny(), 0.0);
   sm.set_anchor(c.anchor());

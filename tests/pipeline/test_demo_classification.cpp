@@ -62,7 +62,7 @@ int env_int(const char* name, int def) {
 
 }  // namespace
 
-TEST_CASE("demo clusters are classified as their models intend", "[demo][e2e][measure]") {
+TEST_CASE("demo clusters are classified as their models intend", "[demo][e2e]") {
   const int trials = env_int("ICMSCOPE_DEMO_TRIALS", 50);
   const int inner = env_int("ICMSCOPE_DEMO_INNER", 10);
   const std::vector<DemoCluster> demo = {

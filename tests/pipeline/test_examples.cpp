@@ -4,7 +4,10 @@
 // must be added here.
 #include <catch2/catch.hpp>
 
+#include <sys/wait.h>
+
 #include <filesystem>
+#include <iterator>
 #include <fstream>
 #include <regex>
 #include <set>
@@ -85,6 +88,27 @@ TEST_CASE("every shipped YAML file runs", "[examples]") {
       cmd = exe() + " observe -q '" + (source_dir() / "config" / "examples" / "observe_cool_core_vasta.yaml").string() +
             "' --output-dir '" + (out / "out").string() + "' --particles 20000 --no-events && " + exe() +
             " measure -q --no-table '" + (out / f.filename()).string() + "'";
+    } else if (keys.count("clusters")) {
+      // A survey sample: the whole sample is loaded and planned, its first target
+      // runs. A sample whose observed listing is made by demo_clusters/make_observed.py
+      // runs in a scratch copy of the tree, with those files made there first.
+      std::ifstream in(f);
+      const std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+      fs::path sample = f;
+      cmd.clear();
+      if (text.find("make_observed.py") != std::string::npos) {
+        const auto tree = out / "tree";
+        fs::create_directories(tree / "config");
+        fs::copy(source_dir() / "config" / "instruments", tree / "config" / "instruments");
+        fs::create_directories(tree / "demo_clusters");
+        fs::copy(source_dir() / "demo_clusters" / "models", tree / "demo_clusters" / "models");
+        sample = tree / "demo_clusters" / f.filename();
+        fs::copy_file(f, sample);
+        cmd = icmscope::testing::python() + " '" + (source_dir() / "demo_clusters" / "make_observed.py").string() +
+              "' '" + (tree / "demo_out" / "observed").string() + "' '" + exe() + "' && ";
+      }
+      cmd += exe() + " survey '" + sample.string() + "' --output-dir '" + out.string() +
+             "' --only 1 --progress none --no-plots";
     } else {
       FAIL("no rule runs " << f << ": add one to tests/pipeline/test_examples.cpp");
     }
@@ -159,6 +183,17 @@ TEST_CASE("the printed observe example runs", "[examples]") {
   CHECK(rate.find("Example-CCD") != std::string::npos);
 }
 
+TEST_CASE("the printed survey example is the shipped sample example", "[examples][survey]") {
+  // config/examples/survey_sample.yaml runs in "every shipped YAML file runs";
+  // the printed example must be that very file.
+  int st = 0;
+  const std::string printed = run_capture(exe() + " survey --example", &st);
+  REQUIRE(st == 0);
+  std::ifstream in(source_dir() / "config" / "examples" / "survey_sample.yaml");
+  const std::string shipped((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  CHECK(printed == shipped);
+}
+
 TEST_CASE("command-line errors are one line and non-zero", "[examples][cli]") {
   int st = 0;
   std::string t = run_capture(exe() + " nosuchverb 2>&1", &st);
@@ -179,6 +214,11 @@ TEST_CASE("command-line errors are one line and non-zero", "[examples][cli]") {
   CHECK(st != 0);
   CHECK(std::count(t.begin(), t.end(), '\n') == 1);
   CHECK(t.find("/nonexistent/inst.yaml") != std::string::npos);
+  t = run_capture(exe() + " survey /nonexistent/sample.yaml 2>&1", &st);
+  CHECK(WIFEXITED(st));
+  CHECK(WEXITSTATUS(st) == 2);  // a configuration error of the sample itself
+  CHECK(std::count(t.begin(), t.end(), '\n') == 1);
+  CHECK(t.find("/nonexistent/sample.yaml") != std::string::npos);
   t = run_capture(exe() + " synth --bogus 2>&1", &st);
   CHECK(st != 0);
   t = run_capture(exe() + " --version", &st);

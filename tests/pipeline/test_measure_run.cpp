@@ -535,3 +535,25 @@ print('bad', bad)
   CHECK(py.status == 0);
   CHECK(py.out.find("bad 0") != std::string::npos);
 }
+
+TEST_CASE("measure: the printed example runs on the products of the observe example", "[pipeline][measure][examples]") {
+  // `icmscope measure --example` names the products of
+  // config/examples/observe_cool_core_vasta.yaml relative to its own folder.
+  const auto dir = scratch_dir("measure_printed");
+  int st = 0;
+  const std::string text = run_capture(exe() + " measure --example", &st);
+  REQUIRE(st == 0);
+  { std::ofstream(dir / "printed.yaml") << text; }
+  const std::string obs =
+      run_capture(exe() + " observe -q '" + (testing::source_dir() / "config" / "examples" / "observe_cool_core_vasta.yaml").string() +
+                      "' --output-dir '" + (dir / "out").string() + "' --particles 20000 --no-events 2>&1",
+                  &st);
+  INFO(obs);
+  REQUIRE(st == 0);
+  const Run r = measure("'" + (dir / "printed.yaml").string() + "' --realisations 8", dir);
+  INFO(r.err);
+  CHECK(r.status == 0);
+  CHECK(r.out.find("icmscope measure: Maren-7") != std::string::npos);
+  for (const char* f : {"out/Maren-7_measure.json", "out/Maren-7_measure.csv", "out/Maren-7_measure.png"})
+    CHECK(fs::file_size(dir / f) > 100);
+}

@@ -363,3 +363,61 @@ TEST_CASE("observe: a maps file from project gives the cells' cluster counts", "
   CHECK(c.image.anchor().ra_deg == Approx(m.image.anchor().ra_deg).epsilon(1e-12));
   CHECK(c.image.anchor().crpix1 == m.image.anchor().crpix1);
 }
+
+TEST_CASE("observe: PSF image and bad-pixel mask from FITS files", "[observe]") {
+  const auto dir = scratch_dir("observe_psf_image");
+  // A sampled Gaussian PSF (FWHM 3", 0.5" pixels): its half-energy radius is
+  // FWHM / 2 (physics.md section 8: EEF = 1 - exp(-r^2 / 2 sigma^2)).
+  core::ImageD psf(65, 65, 0.0);
+  core::SkyAnchor pa;
+  pa.crpix1 = pa.crpix2 = 33.0;
+  pa.pixel_arcsec = 0.5;
+  psf.set_anchor(pa);
+  const double sig = 3.0 / 2.3548200450309493 / 0.5;
+  for (int j = 0; j < 65; ++j)
+    for (int i = 0; i < 65; ++i) psf(i, j) = std::exp(-0.5 * ((i - 32.0) * (i - 32.0) + (j - 32.0) * (j - 32.0)) / (sig * sig));
+  io::NamedImage n;
+  n.extname = "PSF";
+  n.image = psf;
+  io::write_fits_images((dir / "psf.fits").string(), {n});
+  // Bad pixels: a 60" x 60" block 100-160" along +u, 0-60" along +v of the field centre (1" detector pixels).
+  core::ImageD bad(600, 600, 0.0);
+  core::SkyAnchor ba;
+  ba.crpix1 = ba.crpix2 = 300.5;
+  ba.pixel_arcsec = 1.0;
+  bad.set_anchor(ba);
+  for (int j = 300; j < 360; ++j)
+    for (int i = 400; i < 460; ++i) bad(i, j) = 1.0;
+  io::NamedImage b;
+  b.extname = "BADPIX";
+  b.image = bad;
+  io::write_fits_images((dir / "bad.fits").string(), {b});
+  const auto inst = pipeline::build_instrument(instrument_from_text(R"(instrument: {name: Test-Files}
+effective_area: {kind: analytic, peak_area_cm2: 400, peak_energy_keV: 1.5}
+detector: {fov_shape: square, fov_arcmin: 10, pixel_arcsec: 1.0, bad_pixels: bad.fits}
+psf: {kind: image, file: psf.fits, extension: PSF}
+particle_background: {level_counts_s_keV_arcmin2: 1.0e-3}
+)",
+                                                                    dir),
+                                               0.0);
+  CHECK(inst.psf.kind() == instrument::PsfKind::Image);
+  CHECK(inst.psf.half_energy_radius_arcsec() == Approx(1.5).epsilon(0.03));
+  const auto maps = synthetic_maps(80, 10.0, 1.0, 4.0);  // 800" across, 10" pixels, axis at the centre
+  config::ObservationSettings obs;
+  obs.exposure_ks = 10;
+  pipeline::Log log(true);
+  const auto x = pipeline::expect_observation(maps, obs, inst, continuum(), 0.1, 0.0, 0.5, 2.0, log);
+  // Sky pixel centres (1-based) at axis + (u, v) / 10": the block covers u 100..160, v 0..60.
+  const double ax = x.axis_x, ay = x.axis_y;
+  auto expo = [&](double u, double v) {
+    return x.exposure_s(static_cast<int>(std::lround(ax + u / 10.0)) - 1, static_cast<int>(std::lround(ay + v / 10.0)) - 1);
+  };
+  CHECK(expo(130, 30) == 0.0);
+  CHECK(expo(-130, 30) == Approx(x.live_time_s).epsilon(1e-9));
+  CHECK(expo(130, -30) == Approx(x.live_time_s).epsilon(1e-9));
+  CHECK(x.expected[pipeline::kCompParticle].sum() > 0);
+  // The cluster image keeps its flux where the field is sensitive: total within
+  // the map of the blurred rate x live time, less the bad block's share.
+  CHECK(x.expected[pipeline::kCompCluster].sum() < maps.rate.sum() * x.live_time_s);
+  CHECK(x.expected[pipeline::kCompCluster].sum() > 0.9 * maps.rate.sum() * x.live_time_s);
+}

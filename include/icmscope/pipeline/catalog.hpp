@@ -8,7 +8,8 @@
 // either exists complete or not at all. The catalog is assembled from the rows
 // in target order: its columns are the union of the rows' columns in order of
 // first appearance (a real column missing from a row is NaN, a text column is
-// empty, an integer column missing anywhere becomes real).
+// empty, an integer column missing anywhere becomes real). Without rows the
+// catalog has the columns target_index and target_id.
 #include <functional>
 #include <limits>
 #include <map>

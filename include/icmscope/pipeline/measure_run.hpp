@@ -92,6 +92,7 @@ struct MeasureReport {
   std::string w_bias;
   std::vector<std::string> notes;   // warnings and remarks, one line each
   std::string config_hash;
+  std::string configuration;        // resolved settings (YAML, defaults marked) + command-line overrides
   double seconds = 0.0;
 };
 

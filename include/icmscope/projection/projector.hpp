@@ -29,7 +29,8 @@
 // Against brute-force pixel integrals of F the deposited pixel values are
 // within ~2e-4 of the peak pixel for h < 10 (exact path; the limit is the
 // 128^2 cumulative table) and within ~2e-4 (h = 10) falling as h^-4 (~5e-5 at
-// h = 15, ~1e-6 at h = 45) for centre sampling; tests/physics/test_projector.cpp.
+// h = 15, ~1e-5 for h >= 30, the limit of the table interpolation) for centre
+// sampling; tests/physics/test_projector.cpp.
 // Footprints too large to sum pixel by pixel (bounding box over
 // min(max(4 nx ny, 2^22), 2^26) pixels, i.e. much larger than the field) are
 // normalised with the table's continuum integral instead (the lattice sum
