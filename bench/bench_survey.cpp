@@ -17,6 +17,7 @@
 #include <thread>
 #include <vector>
 
+#include <sys/resource.h>
 #include <unistd.h>
 
 #include "icmscope/config/survey_settings.hpp"
@@ -86,13 +87,20 @@ int main(int argc, char** argv) {
     o.progress = "none";
     o.plots = false;
     pipeline::Log log(true);
+    auto cpu = [] {
+      rusage u{};
+      getrusage(RUSAGE_SELF, &u);
+      return u.ru_utime.tv_sec + u.ru_stime.tv_sec + 1e-6 * (u.ru_utime.tv_usec + u.ru_stime.tv_usec);
+    };
+    const double c0 = cpu();
     const auto t0 = std::chrono::steady_clock::now();
     const auto r = pipeline::run_survey(settings, o, log);
     const double s = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+    const double used = cpu() - c0;
     n = r.targets;
     runs.push_back({std::to_string(threads) + " thread" + (threads > 1 ? "s" : " "), threads, s, read_file(r.catalog_csv)});
-    std::printf("  %-22s %6.1f s   %6.2f targets/min   (%zu failed)\n", runs.back().label.c_str(), s, 60.0 * n / s,
-                r.failures.size());
+    std::printf("  %-22s %6.1f s   %6.2f targets/min   CPU %6.1f s (%.2f cores busy; %.1f CPU s per target)  (%zu failed)\n",
+                runs.back().label.c_str(), s, 60.0 * n / s, used, used / s, used / n, r.failures.size());
     std::fflush(stdout);
   }
   const fs::path exe = fs::path(argv[0]).parent_path().parent_path() / "icmscope";

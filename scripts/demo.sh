@@ -15,7 +15,7 @@ exe="$build/icmscope"
 out=${ICMSCOPE_DEMO_OUT:-$here/demo_out}
 # The sample names its observed listing as ../demo_out/observed (beside demo_clusters/).
 observed="$here/demo_out/observed"
-if [ ! -f "$observed/observed_catalog.csv" ]; then
+if [ ! -f "$observed/observed_catalog.csv" ] || [ "$here/demo_clusters/make_observed.py" -nt "$observed/observed_catalog.csv" ]; then
   /usr/bin/python3 "$here/demo_clusters/make_observed.py" "$observed" "$exe"
 fi
 mkdir -p "$out"

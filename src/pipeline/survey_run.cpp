@@ -201,6 +201,11 @@ class LocalDispatcher : public Dispatcher {
     const std::size_t k = next_.fetch_add(1);
     return k < todo_.size() ? static_cast<long long>(todo_[k]) : -1;
   }
+  // Targets not handed out yet.
+  std::size_t remaining() const {
+    const std::size_t k = next_.load();
+    return k < todo_.size() ? todo_.size() - k : 0;
+  }
 
  private:
   const std::vector<std::size_t>& todo_;
@@ -273,7 +278,7 @@ SurveyRunResult run_survey(const config::SurveySettings& s, const SurveyOptions&
   while (res.output_directory.size() > 1 && res.output_directory.back() == '/') res.output_directory.pop_back();
   const std::string out = res.output_directory;
 
-  int rank = 0, nranks = 1;
+  int rank = 0, nranks = 1, local_ranks = 1;
 #ifdef ICMSCOPE_WITH_MPI
   int provided = 0;
   if (o.mpi) {
@@ -283,6 +288,11 @@ SurveyRunResult run_survey(const config::SurveySettings& s, const SurveyOptions&
     else MPI_Query_thread(&provided);
     MPI_Comm_rank(MPI_COMM_WORLD, &rank);
     MPI_Comm_size(MPI_COMM_WORLD, &nranks);
+    // Ranks sharing this node share its cores.
+    MPI_Comm node;
+    MPI_Comm_split_type(MPI_COMM_WORLD, MPI_COMM_TYPE_SHARED, rank, MPI_INFO_NULL, &node);
+    MPI_Comm_size(node, &local_ranks);
+    MPI_Comm_free(&node);
   }
 #endif
   res.is_root = rank == 0;
@@ -320,7 +330,7 @@ SurveyRunResult run_survey(const config::SurveySettings& s, const SurveyOptions&
         todo.push_back(t.index);
   res.other_shard = o.collect_only ? 0 : plan.size() - todo.size();
 
-  const int cores = std::max(1u, std::thread::hardware_concurrency());
+  const int cores = std::max(1, static_cast<int>(std::max(1u, std::thread::hardware_concurrency())) / local_ranks);
   int threads = o.threads > 0 ? o.threads : (s.threads > 0 ? s.threads : (o.mpi ? 1 : cores));
   threads = std::max(1, std::min<int>(threads, static_cast<int>(std::max<std::size_t>(1, todo.size()))));
 #ifdef ICMSCOPE_WITH_MPI
@@ -360,10 +370,21 @@ SurveyRunResult run_survey(const config::SurveySettings& s, const SurveyOptions&
       const long long idx = disp->next(done_index, done);
       if (idx < 0) break;
       const SurveyTarget& t = plan[static_cast<std::size_t>(idx)];
+      std::size_t running_now = 0;
       {
         std::lock_guard<std::mutex> g(prog.m);
-        ++prog.running;
+        running_now = ++prog.running;
       }
+#ifdef _OPENMP
+      // At the tail of a run fewer targets than workers are left: give them the
+      // idle cores (results do not depend on the OpenMP thread count).
+      if (o.omp_threads == 0 && local && !o.mpi) {
+        const std::size_t active = std::max<std::size_t>(
+            1, std::min<std::size_t>(static_cast<std::size_t>(threads), running_now + local->remaining()));
+        omp_set_num_threads(std::max(omp_threads, cores / static_cast<int>(active)));
+      }
+#endif
+      (void)running_now;
       std::string reason;
       const auto ts = clock_type::now();
       const Outcome oc = execute(t, s, o.restart, reason);
