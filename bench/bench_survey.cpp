@@ -109,7 +109,7 @@ int main(int argc, char** argv) {
     const fs::path out = work / "mpi2";
     const std::string cmd =
         "OMPI_ALLOW_RUN_AS_ROOT=1 OMPI_ALLOW_RUN_AS_ROOT_CONFIRM=1 OMPI_MCA_btl_vader_single_copy_mechanism=none "
-        "OMPI_MCA_btl=self,vader mpirun --allow-run-as-root --oversubscribe -np 2 '" + exe.string() + "' survey '" +
+        "OMPI_MCA_btl=self,vader mpirun --allow-run-as-root --oversubscribe --bind-to none -np 2 '" + exe.string() + "' survey '" +
         file.string() + "' --mpi --threads 1 --omp-threads 1 --restart --progress none --no-plots --output-dir '" +
         out.string() + "' > /dev/null 2>&1";
     const auto t0 = std::chrono::steady_clock::now();

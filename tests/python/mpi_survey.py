@@ -51,7 +51,7 @@ with tempfile.TemporaryDirectory() as tmp:
     bad = 0
     for ranks, threads in ((2, 1), (2, 2)):
         out = os.path.join(tmp, "mpi_%d_%d" % (ranks, threads))
-        text = run([MPIEXEC, "--allow-run-as-root", "--oversubscribe", "-np", str(ranks), BIN, "survey", sample,
+        text = run([MPIEXEC, "--allow-run-as-root", "--oversubscribe", "--bind-to", "none", "-np", str(ranks), BIN, "survey", sample,
                     "--output-dir", out, "--mpi", "--threads", str(threads)] + common)
         got = open(os.path.join(out, "small_catalog.csv")).read()
         if got != ref:
