@@ -15,7 +15,9 @@ void Log::info(const std::string& line) {
 }
 
 void Log::warn(const std::string& line) {
-  std::cerr << "warning: " << line << "\n";
+  // A quiet log with a file (a survey target's) keeps its warnings in the file;
+  // otherwise warnings reach stderr even when quiet.
+  if (!quiet_ || !file_) std::cerr << "warning: " << line << "\n";
   if (file_) *file_ << "warning: " << line << "\n" << std::flush;
 }
 

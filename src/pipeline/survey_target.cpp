@@ -377,6 +377,16 @@ std::string indicator_column(const std::string& name, const std::string& apertur
   return a.empty() ? n : n + "_" + a;
 }
 
+// The files an instrument description refers to (resolved paths).
+static std::vector<std::string> instrument_files(const config::InstrumentSettings& in) {
+  std::vector<std::string> f;
+  if (in.area.kind == "ogip" && !in.area.file.empty()) f.push_back(in.area.file);
+  if (in.response.kind == "ogip" && !in.response.file.empty()) f.push_back(in.response.file);
+  if (!in.detector.bad_pixel_file.empty()) f.push_back(in.detector.bad_pixel_file);
+  if (in.psf.kind == "image" && !in.psf.image_file.empty()) f.push_back(in.psf.image_file);
+  return f;
+}
+
 std::vector<SurveyTarget> plan_survey(const config::SurveySettings& s, const std::string& output_directory) {
   std::vector<SurveyTarget> out;
   std::map<std::string, std::string> hashes;
@@ -420,8 +430,12 @@ std::vector<SurveyTarget> plan_survey(const config::SurveySettings& s, const std
             t.instrument_file = inst;
             const auto it = s.instruments.find(inst);
             t.instrument_name = it != s.instruments.end() ? it->second.name : fs::path(inst).stem().string();
-            const std::string ihash = it != s.instruments.end() ? it->second.config_hash
-                                                                : "error " + s.instrument_errors.at(inst);
+            std::string ihash = it != s.instruments.end() ? it->second.config_hash
+                                                          : "error " + s.instrument_errors.at(inst);
+            // The files an instrument names (OGIP responses, PSF image, bad
+            // pixels) are part of it: a changed response reruns the target.
+            if (it != s.instruments.end())
+              for (const auto& f : instrument_files(it->second)) ihash += " " + f + ":" + fh(f);
             t.exposure_ks = exp;
             t.id = safe_name(e.name) + "_" + safe_name(los.label) + "_" + safe_name(t.instrument_name) + "_" +
                    safe_name(fmtg(exp, "%.6g")) + "ks";

@@ -1,5 +1,8 @@
 #pragma once
 // Run log: lines to stderr (unless quiet) and optionally to a log file.
+// Warnings go to stderr even when quiet, except for a quiet log with a file
+// (a survey target's log): there they stay in the file, so the progress
+// display of a parallel survey is not interleaved with them.
 #include <fstream>
 #include <memory>
 #include <string>
