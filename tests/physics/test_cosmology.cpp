@@ -13,12 +13,14 @@
 #include "icmscope/core/constants.hpp"
 #include "icmscope/core/errors.hpp"
 #include "icmscope/cosmo/cosmology.hpp"
+#include "python_reference.hpp"
 #include "test_support.hpp"
 
 using icmscope::core::DomainError;
 using icmscope::cosmo::Cosmology;
 using icmscope::cosmo::CosmologyParams;
 namespace ts = icmscope::testing;
+using icmscope::testing::python_rows;
 namespace k = icmscope::core::constants;
 
 namespace {
@@ -34,28 +36,6 @@ std::string error_of(const std::function<void()>& f) {
   return "";
 }
 
-// Run a python script from /usr/bin/python3 and return its stdout lines as numbers.
-std::vector<std::vector<double>> python_rows(const std::string& name, const std::string& script) {
-  const auto dir = ts::scratch_dir(name);
-  const auto path = dir / "ref.py";
-  std::ofstream(path) << script;
-  int status = -1;
-  const std::string out = ts::run_capture(ts::python() + " " + path.string() + " 2>&1", &status);
-  INFO("python output: " << out);
-  REQUIRE(status == 0);
-  std::vector<std::vector<double>> rows;
-  std::istringstream is(out);
-  std::string line;
-  while (std::getline(is, line)) {
-    std::istringstream ls(line);
-    std::vector<double> r;
-    double v;
-    while (ls >> v) r.push_back(v);
-    if (!r.empty()) rows.push_back(r);
-  }
-  REQUIRE(!rows.empty());
-  return rows;
-}
 
 }  // namespace
 

@@ -16,37 +16,18 @@
 
 #include "icmscope/core/constants.hpp"
 #include "icmscope/projection/kernel.hpp"
+#include "python_reference.hpp"
 #include "test_support.hpp"
 
 using icmscope::projection::ColumnKernel;
 using icmscope::projection::SphKernel;
 namespace pj = icmscope::projection;
 namespace ts = icmscope::testing;
+using icmscope::testing::python_rows;
 using icmscope::core::constants::kPi;
 
 namespace {
 
-std::vector<std::vector<double>> python_rows(const std::string& name, const std::string& script) {
-  const auto dir = ts::scratch_dir(name);
-  const auto path = dir / "ref.py";
-  std::ofstream(path) << script;
-  int status = -1;
-  const std::string out = ts::run_capture(ts::python() + " " + path.string() + " 2>&1", &status);
-  INFO("python output: " << out);
-  REQUIRE(status == 0);
-  std::vector<std::vector<double>> rows;
-  std::istringstream is(out);
-  std::string line;
-  while (std::getline(is, line)) {
-    std::istringstream ls(line);
-    std::vector<double> r;
-    double v;
-    while (ls >> v) r.push_back(v);
-    if (!r.empty()) rows.push_back(r);
-  }
-  REQUIRE(!rows.empty());
-  return rows;
-}
 
 // Gauss-Legendre-free midpoint integral of g over [a, b] with n cells.
 template <typename G>
