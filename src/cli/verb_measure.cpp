@@ -80,7 +80,8 @@ int run_measure(const std::vector<std::string>& args) {
     throw core::ConfigError("missing MEASURE.yaml, --counts FILE or --observation PREFIX (see icmscope measure --help)");
   set_threads(vm["threads"].as<int>());
   config::MeasureRunSettings s;
-  if (vm.count("run")) s = config::load_measure_run(vm["run"].as<std::string>());
+  // --observation replaces the file's inputs.observation: resolved below, after the overrides.
+  if (vm.count("run")) s = config::load_measure_run(vm["run"].as<std::string>(), !vm.count("observation"));
   std::string over;
   const auto note = [&](const std::string& key, const std::string& v) { over += "# " + key + " = " + v + " (command line)\n"; };
   const auto str = [&](const char* opt) { return vm[opt].as<std::string>(); };

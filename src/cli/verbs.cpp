@@ -8,6 +8,7 @@ int run_observe(const std::vector<std::string>& args);
 int run_rate(const std::vector<std::string>& args);
 int run_measure(const std::vector<std::string>& args);
 int run_survey(const std::vector<std::string>& args);
+int run_plan(const std::vector<std::string>& args);
 
 const std::vector<Verb>& verbs() {
   static const std::vector<Verb> all = {
@@ -17,6 +18,7 @@ const std::vector<Verb>& verbs() {
       {"rate", "isothermal plasma through an instrument: count rate per flux, counts for an exposure", run_rate},
       {"measure", "morphology indicators of a counts image (mock or real): values, bias corrections, flags, classes", run_measure},
       {"survey", "a sample of clusters (simulated and observed) -> one catalog, in parallel, resumable", run_survey},
+      {"plan", "exposure planning: indicator precision and class confidence vs exposure; shortest sufficient exposure", run_plan},
   };
   return all;
 }

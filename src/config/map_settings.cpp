@@ -137,6 +137,11 @@ CellSourceSettings read_cell_source(const Section& s) {
   }
   c.bad_cells = s.choice("bad_cells", {"error", "drop"}, std::string("error")) == "drop" ? cells::BadCellPolicy::Drop
                                                                                          : cells::BadCellPolicy::Error;
+  if (has_model && s.has("chunk_cells"))
+    s.fail("chunk_cells", "applies to a cells file only (a model is synthesised in memory: its k-NN smoothing "
+                          "lengths need all particles at once)");
+  if (has_file)
+    c.chunk_cells = static_cast<std::size_t>(s.integer("chunk_cells", 1 << 20, Range::closed(0, 1e9)));
   if (auto f = s.maybe_child("fields")) {
     if (!has_file) s.fail("fields", "a field map applies to a cells file only");
     c.fields = read_field_map(*f);
@@ -261,6 +266,8 @@ cells:
   # analytic_subsamples: 2     # model_projection: analytic -> Gauss-Legendre points per pixel axis
   # file: cells.h5             # ... or a cells file (HDF5, FITS table, CSV); give file OR model
   bad_cells: error             # error | drop: what to do with NaN / non-physical cells
+  # chunk_cells: 1048576       # file: cells read and projected at a time (bounded memory; 0 = read all
+                               # at once). The maps do not depend on it: bitwise identical for any value
   # fields:                    # field map for files not in icmscope's own layout:
   #   kind: particles          # particles | mesh
   #   position: {source: PartType0/Coordinates, factor: 1.0, a_exp: 1, h_exp: -1}   # -> kpc
@@ -281,7 +288,7 @@ cells:
   #   star_formation_rate: PartType0/StarFormationRate # > 0 flags star-forming gas
   #   scale_factor_attribute: Header/Time              # or scale_factor: 0.9
   #   hubble_h_attribute: Header/HubbleParam           # or hubble_h: 0.7
-  #   chunk_rows: 262144                               # rows per read chunk (bounded memory)
+  #   chunk_rows: 262144                               # rows converted at a time when chunk_cells: 0
 
 selection:
   min_kT_keV: 0.0              # drop gas colder than this (0 = keep all)

@@ -271,7 +271,7 @@ void resolve_relative(ImageRef& r, const std::string& yaml_file) {
 
 }  // namespace
 
-MeasureRunSettings load_measure_run(const std::string& path) {
+MeasureRunSettings load_measure_run(const std::string& path, bool resolve_observation_products) {
   auto file = SettingsFile::load(path);
   const Section r = file.root();
   MeasureRunSettings m;
@@ -319,8 +319,8 @@ MeasureRunSettings load_measure_run(const std::string& path) {
     i.min_relative_exposure = in.number("min_relative_exposure", 0.0, Range::closed(0.0, 1.0));
     if (in.has("band_keV")) i.band_keV = in.numbers("band_keV", std::nullopt, Range::positive(), 2, 2);
     else in.accept("band_keV");
-    if (!i.observation.empty()) resolve_observation(i);
-    if (!i.counts.given())
+    if (!i.observation.empty() && resolve_observation_products) resolve_observation(i);
+    if (!i.counts.given() && (resolve_observation_products || i.observation.empty()))
       in.fail("counts", "missing required key (the counts image, FILE or FILE[HDU]; or inputs.observation)");
   }
   if (const auto t = r.maybe_child("target")) {
@@ -405,7 +405,7 @@ MeasureRunSettings load_measure_run(const std::string& path) {
   file.finish();
   m.resolved_yaml = file.resolved_yaml();
   m.config_hash = file.resolved_hash();
-  check_measure_run(m);
+  if (resolve_observation_products || m.inputs.observation.empty()) check_measure_run(m);  // else: the caller's
   return m;
 }
 

@@ -4,26 +4,14 @@
 #include <cstdio>
 
 #include "icmscope/core/errors.hpp"
+#include "icmscope/core/text_hash.hpp"
 
 namespace icmscope::config {
 
 namespace {
 
-std::string hex16(std::uint64_t h) {
-  char b[24];
-  std::snprintf(b, sizeof b, "%016llx", static_cast<unsigned long long>(h));
-  return b;
-}
-
-// FNV-1a of a text (combines the run and instrument hashes).
-std::uint64_t fnv1a(const std::string& s) {
-  std::uint64_t h = 1469598103934665603ULL;
-  for (unsigned char c : s) {
-    h ^= c;
-    h *= 1099511628211ULL;
-  }
-  return h;
-}
+using core::fnv1a;
+using core::hex16;
 
 PointSourceSettings read_point_sources(const std::optional<Section>& s) {
   PointSourceSettings p;

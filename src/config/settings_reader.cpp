@@ -240,6 +240,21 @@ static void consume(const Section::Impl& im, const std::string& key) {
   rec.consumed.insert(key);
 }
 
+// "missing required key (...)", plus the likely misspelling when the map holds an unread key close to it
+// (a typo of a required key would otherwise be reported as missing, not as the typo).
+static std::string missing_hint(const Section::Impl& im, const std::string& key, const std::string& message) {
+  if (!im.node.IsMap()) return message;
+  const auto rec = im.st->sections.find(im.path);
+  for (auto it = im.node.begin(); it != im.node.end(); ++it) {
+    if (!it->first.IsScalar()) continue;
+    const std::string k = it->first.Scalar();
+    if (k == key || (rec != im.st->sections.end() && rec->second.consumed.count(k))) continue;
+    if (nearest(k, {key}) == key)
+      return message + "; is '" + k + "' at " + mark_text(im.st->file, it->first.Mark()) + " a misspelling of it?";
+  }
+  return message;
+}
+
 static void record(const Section::Impl& im, const std::string& key, const std::string& value, bool is_default) {
   const std::string p = join_path(im.path, key);
   if (im.st->resolved_paths.insert(p).second) im.st->resolved.push_back({p, value, is_default});
@@ -288,7 +303,7 @@ double Section::number(const std::string& key, std::optional<double> def, Range 
   consume(*impl_, key);
   const YAML::Node n = find_key(impl_->node, key);
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected a number " + range.describe() + ")");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected a number " + range.describe() + ")"));
     record(*impl_, key, fmt_num(*def), true);
     return *def;
   }
@@ -306,7 +321,7 @@ std::int64_t Section::integer(const std::string& key, std::optional<std::int64_t
   consume(*impl_, key);
   const YAML::Node n = find_key(impl_->node, key);
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected an integer " + range.describe() + ")");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected an integer " + range.describe() + ")"));
     record(*impl_, key, std::to_string(*def), true);
     return *def;
   }
@@ -324,7 +339,7 @@ bool Section::flag(const std::string& key, std::optional<bool> def) const {
   consume(*impl_, key);
   const YAML::Node n = find_key(impl_->node, key);
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected true or false)");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected true or false)"));
     record(*impl_, key, *def ? "true" : "false", true);
     return *def;
   }
@@ -352,7 +367,7 @@ std::string Section::text(const std::string& key, std::optional<std::string> def
   consume(*impl_, key);
   const YAML::Node n = find_key(impl_->node, key);
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected a text value)");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected a text value)"));
     record(*impl_, key, quote(*def), true);
     return *def;
   }
@@ -368,7 +383,7 @@ std::string Section::choice(const std::string& key, const std::vector<std::strin
   consume(*impl_, key);
   const YAML::Node n = find_key(impl_->node, key);
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected one of: " + all + ")");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected one of: " + all + ")"));
     record(*impl_, key, *def, true);
     return *def;
   }
@@ -388,7 +403,7 @@ std::string Section::path_value(const std::string& key, std::optional<std::strin
   std::string t;
   bool is_def = false;
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected a file path)");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected a file path)"));
     t = *def;
     is_def = true;
   } else {
@@ -412,7 +427,7 @@ std::vector<double> Section::numbers(const std::string& key, std::optional<std::
     return s + "]";
   };
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected a list of numbers)");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected a list of numbers)"));
     record(*impl_, key, show(*def), true);
     return *def;
   }
@@ -457,7 +472,7 @@ std::vector<std::string> Section::texts(const std::string& key, std::optional<st
     return s + "]";
   };
   if (!n.IsDefined() || n.IsNull()) {
-    if (!def) fail(key, "missing required key (expected a list of text values)");
+    if (!def) fail(key, missing_hint(*impl_, key, "missing required key (expected a list of text values)"));
     record(*impl_, key, show(*def), true);
     return *def;
   }

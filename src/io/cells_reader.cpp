@@ -165,21 +165,58 @@ cells::FieldMap own_layout_field_map() {
   return m;
 }
 
-cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, cells::BadCellPolicy policy,
-                           CellsReadInfo* info) {
-  const CellsFormat format = cells_format_from_path(path);
-  check_map(path, map);
+namespace {
 
+// The resolved field map of one open file: which columns feed which field,
+// the unit factors, and the conversion of one source chunk into GasCells.
+struct Converter {
   std::unique_ptr<detail::ColumnSource> src;
+  CellsFormat format = CellsFormat::Hdf5;
+  Plan p;
+  bool have_vel = false, any_flags = false;
+  CellKind kind = CellKind::Particles;
+  double a = 1.0, h = 1.0;
+  double s_pos = 1, s_vel = 1, s_m = 1, s_d = 1, s_v = 1, s_t = 1, s_u = 1, s_xe = 1, s_z = 1, s_h = 1;
+  double X = 0.76, mu_ionised = 1.0, u_to_keV = 1.0, mesh_f = 2.0, z_fallback = 0.0;
+  std::vector<std::vector<double>> buf;
+
+  Converter(const std::string& path, const FieldMap& map);
+  // Sizes the per-cell arrays of `cells` to n (velocities and flags as the file has them).
+  void size_cells(GasCells& cells, std::size_t n) const {
+    cells.kind = kind;
+    cells.resize(n);
+    if (have_vel) {
+      cells.vx.resize(n);
+      cells.vy.resize(n);
+      cells.vz.resize(n);
+    }
+    if (any_flags) cells.flags.resize(n, 0);
+  }
+  // Reads the next source chunk (at most max_rows rows) and converts it into
+  // cells[off, off + n), growing `cells` when needed; returns n (0 at the end).
+  std::size_t next(std::size_t max_rows, GasCells& cells, std::size_t off) {
+    const std::size_t n = src->next(max_rows, buf);
+    if (n == 0) return 0;
+    if (off + n > cells.size()) size_cells(cells, off + n);
+    convert(n, cells, off);
+    return n;
+  }
+  void convert(std::size_t n, GasCells& cells, std::size_t off) const;
+};
+
+Converter::Converter(const std::string& path, const FieldMap& map) {
+  Converter& c = *this;
+  format = cells_format_from_path(path);
+  check_map(path, map);
   switch (format) {
     case CellsFormat::Hdf5: src = detail::open_hdf5_cells(path); break;
     case CellsFormat::Fits: src = detail::open_fits_cells(path, map.fits_extension); break;
     case CellsFormat::Csv: src = detail::open_csv_cells(path); break;
   }
 
+  Plan& p = c.p;
   // ---- requests ----
   Requests rq;
-  Plan p;
   add_vector(rq, map.position, "position", &p.pos, p.pos_xyz);
   add_vector(rq, map.velocity, "velocity", &p.vel, p.vel_xyz);
   p.mass = rq.add(map.mass, "mass");
@@ -194,7 +231,7 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
   p.cold = rq.add(map.cold, "cold");
   p.flags = rq.add(map.flags, "flags");
 
-  const std::vector<bool> present = src->open(rq.list);
+  const std::vector<bool> present = c.src->open(rq.list);
   for (int* idx : {&p.pos, &p.vel, &p.mass, &p.dens, &p.vol, &p.temp, &p.u, &p.xe, &p.metal, &p.smooth, &p.sfr,
                    &p.cold, &p.flags})
     drop_absent(*idx, present);
@@ -206,16 +243,16 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
   if (p.vel_xyz[0] < 0 || p.vel_xyz[1] < 0 || p.vel_xyz[2] < 0) p.vel_xyz[0] = p.vel_xyz[1] = p.vel_xyz[2] = -1;
   const bool have_pos = p.pos >= 0 || (p.pos_xyz[0] >= 0 && p.pos_xyz[1] >= 0 && p.pos_xyz[2] >= 0);
   if (!have_pos) throw InputError(path + ": position not found");
-  const bool have_vel = p.vel >= 0 || p.vel_xyz[0] >= 0;
+  c.have_vel = p.vel >= 0 || p.vel_xyz[0] >= 0;
 
   // ---- kind ----
-  CellKind kind = map.kind;
+  c.kind = map.kind;
   if (!map.kind_attribute.empty()) {
     std::string s;
-    if (format != CellsFormat::Csv && src->read_text(map.kind_attribute, &s)) {
+    if (format != CellsFormat::Csv && c.src->read_text(map.kind_attribute, &s)) {
       s = lower(s);
-      if (s == "particles") kind = CellKind::Particles;
-      else if (s == "mesh") kind = CellKind::Mesh;
+      if (s == "particles") c.kind = CellKind::Particles;
+      else if (s == "mesh") c.kind = CellKind::Mesh;
       else throw InputError(path + ": attribute '" + map.kind_attribute + "' = '" + s + "' (expected particles or mesh)");
     }
   }
@@ -226,7 +263,7 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
     throw InputError(path + ": need two of mass, density, volume; found " +
                      std::string(hm ? "mass" : hd ? "density" : hv ? "volume" : "none of them"));
   if (p.temp < 0 && p.u < 0) throw InputError(path + ": no temperature / internal energy");
-  if (p.smooth < 0 && kind == CellKind::Particles)
+  if (p.smooth < 0 && c.kind == CellKind::Particles)
     throw InputError(path + ": particles need a smoothing length" +
                      (map.smoothing_length.named() ? " ('" + map.smoothing_length.source + "' absent)"
                                                    : std::string(" (none named in the field map)")));
@@ -240,7 +277,7 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
     if (h_exp != 0.0 && !need_h) need_h = true, h_user = std::string(name) + " (h_exp " + fmt(h_exp) + ")";
   };
   note(map.position.a_exp, map.position.h_exp, true, "position");
-  note(map.velocity.a_exp, map.velocity.h_exp, have_vel, "velocity");
+  note(map.velocity.a_exp, map.velocity.h_exp, c.have_vel, "velocity");
   note(map.mass.a_exp, map.mass.h_exp, hm, "mass");
   note(map.density.a_exp, map.density.h_exp, hd, "density");
   note(map.volume.a_exp, map.volume.h_exp, hv, "volume");
@@ -249,52 +286,33 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
   note(map.electron_abundance.a_exp, map.electron_abundance.h_exp, p.xe >= 0, "electron_abundance");
   note(map.metallicity.a_exp, map.metallicity.h_exp, p.metal >= 0, "metallicity");
   note(map.smoothing_length.a_exp, map.smoothing_length.h_exp, p.smooth >= 0, "smoothing_length");
-  const double a = resolve_cosmo(path, *src, map.scale_factor, map.scale_factor_attribute, need_a,
+  c.a = resolve_cosmo(path, *c.src, map.scale_factor, map.scale_factor_attribute, need_a,
                                  "the scale factor a", a_user);
-  const double h = resolve_cosmo(path, *src, map.hubble_h, map.hubble_h_attribute, need_h, "little h", h_user);
+  c.h = resolve_cosmo(path, *c.src, map.hubble_h, map.hubble_h_attribute, need_h, "little h", h_user);
   auto scale = [&](double factor, double a_exp, double h_exp) {
-    return factor * std::pow(a, a_exp) * std::pow(h, h_exp);
+    return factor * std::pow(c.a, a_exp) * std::pow(c.h, h_exp);
   };
-  const double s_pos = scale(map.position.factor, map.position.a_exp, map.position.h_exp);
-  const double s_vel = scale(map.velocity.factor, map.velocity.a_exp, map.velocity.h_exp);
-  const double s_m = scale(map.mass.factor, map.mass.a_exp, map.mass.h_exp);
-  const double s_d = scale(map.density.factor, map.density.a_exp, map.density.h_exp);
-  const double s_v = scale(map.volume.factor, map.volume.a_exp, map.volume.h_exp);
-  const double s_t = scale(map.temperature.factor, map.temperature.a_exp, map.temperature.h_exp);
-  const double s_u = scale(map.internal_energy.factor, map.internal_energy.a_exp, map.internal_energy.h_exp);
-  const double s_xe = scale(map.electron_abundance.factor, map.electron_abundance.a_exp, map.electron_abundance.h_exp);
-  double s_z = scale(map.metallicity.factor, map.metallicity.a_exp, map.metallicity.h_exp);
-  if (map.metallicity_convention == cells::MetallicityConvention::MassFraction) s_z /= map.solar_metal_mass_fraction;
-  double s_h = scale(map.smoothing_length.factor, map.smoothing_length.a_exp, map.smoothing_length.h_exp);
-  if (map.smoothing_convention == cells::SmoothingConvention::CubicSplineH) s_h *= 2.0;
-  const double X = map.hydrogen_mass_fraction;
-  const double gamma = map.adiabatic_index;
-  const double mu_ionised = mean_molecular_weight_ionised(X);
-  const double u_to_keV = kT_keV_from_internal_energy(1.0, 1.0, gamma);  // per unit mu and u
-  const double mesh_f = map.mesh_support_factor;
-  const double z_fallback = map.metallicity_fallback_solar;
-  const bool any_flags = p.sfr >= 0 || p.cold >= 0 || p.flags >= 0;
+  c.s_pos = scale(map.position.factor, map.position.a_exp, map.position.h_exp);
+  c.s_vel = scale(map.velocity.factor, map.velocity.a_exp, map.velocity.h_exp);
+  c.s_m = scale(map.mass.factor, map.mass.a_exp, map.mass.h_exp);
+  c.s_d = scale(map.density.factor, map.density.a_exp, map.density.h_exp);
+  c.s_v = scale(map.volume.factor, map.volume.a_exp, map.volume.h_exp);
+  c.s_t = scale(map.temperature.factor, map.temperature.a_exp, map.temperature.h_exp);
+  c.s_u = scale(map.internal_energy.factor, map.internal_energy.a_exp, map.internal_energy.h_exp);
+  c.s_xe = scale(map.electron_abundance.factor, map.electron_abundance.a_exp, map.electron_abundance.h_exp);
+  c.s_z = scale(map.metallicity.factor, map.metallicity.a_exp, map.metallicity.h_exp);
+  if (map.metallicity_convention == cells::MetallicityConvention::MassFraction) c.s_z /= map.solar_metal_mass_fraction;
+  c.s_h = scale(map.smoothing_length.factor, map.smoothing_length.a_exp, map.smoothing_length.h_exp);
+  if (map.smoothing_convention == cells::SmoothingConvention::CubicSplineH) c.s_h *= 2.0;
+  c.X = map.hydrogen_mass_fraction;
+  c.mu_ionised = mean_molecular_weight_ionised(c.X);
+  c.u_to_keV = kT_keV_from_internal_energy(1.0, 1.0, map.adiabatic_index);  // per unit mu and u
+  c.mesh_f = map.mesh_support_factor;
+  c.z_fallback = map.metallicity_fallback_solar;
+  c.any_flags = p.sfr >= 0 || p.cold >= 0 || p.flags >= 0;
+}
 
-  // ---- chunked conversion ----
-  GasCells cells;
-  cells.kind = kind;
-  auto grow = [&](std::size_t n) {
-    cells.resize(n);
-    if (have_vel) {
-      cells.vx.resize(n);
-      cells.vy.resize(n);
-      cells.vz.resize(n);
-    }
-    if (any_flags) cells.flags.resize(n, 0);
-  };
-  const std::size_t hint = src->rows_hint();
-  if (hint > 0) grow(hint);
-
-  std::vector<std::vector<double>> buf;
-  std::size_t off = 0;
-  const std::size_t chunk = map.chunk_rows;
-  for (std::size_t n; (n = src->next(chunk, buf)) > 0; off += n) {
-    if (off + n > cells.size()) grow(off + n);
+void Converter::convert(std::size_t n, GasCells& cells, std::size_t off) const {
     auto col = [&](int idx) -> const double* { return idx >= 0 ? buf[static_cast<std::size_t>(idx)].data() : nullptr; };
     // positions / velocities
     {
@@ -369,8 +387,32 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
         of[i] = f;
       }
     }
+}
+
+// Adds a chunk's report (cells numbered from `offset` in the file) to a running one.
+void merge_report(cells::ValidationReport& total, const cells::ValidationReport& r, std::size_t offset) {
+  if (r.n_bad > 0 && total.n_bad == 0) {
+    total.first_index = offset + r.first_index;
+    total.first_field = r.first_field;
+    total.first_value = r.first_value;
   }
-  if (off != cells.size()) grow(off);
+  total.n_cells += r.n_cells;
+  total.n_bad += r.n_bad;
+  for (std::size_t k = 0; k < cells::kCellFieldCount; ++k) total.per_field[k] += r.per_field[k];
+}
+
+}  // namespace
+
+cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, cells::BadCellPolicy policy,
+                           CellsReadInfo* info) {
+  Converter cv(path, map);
+  GasCells cells;
+  cells.kind = cv.kind;
+  const std::size_t hint = cv.src->rows_hint();
+  if (hint > 0) cv.size_cells(cells, hint);
+  std::size_t off = 0;
+  for (std::size_t n; (n = cv.next(map.chunk_rows, cells, off)) > 0;) off += n;
+  if (off != cells.size()) cv.size_cells(cells, off);
   if (off == 0) throw InputError(path + ": no cells (0 rows)");
 
   // ---- validation ----
@@ -378,15 +420,78 @@ cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map, 
   const std::size_t dropped = cells::apply_bad_cell_policy(cells, report, policy, path);
   if (cells.size() == 0) throw InputError(path + ": no usable cells: " + report.summary());
   if (info) {
-    info->format = format;
+    info->format = cv.format;
     info->rows_read = off;
     info->cells_dropped = dropped;
     info->validation = report;
-    info->scale_factor = a;
-    info->hubble_h = h;
-    info->kind = kind;
+    info->scale_factor = cv.a;
+    info->hubble_h = cv.h;
+    info->kind = cv.kind;
   }
   return cells;
+}
+
+// ---- CellsChunkReader ----
+
+struct CellsChunkReader::Impl {
+  Impl(const std::string& path_, const FieldMap& map, cells::BadCellPolicy policy_)
+      : path(path_), policy(policy_), cv(path_, map) {
+    info.format = cv.format;
+    info.scale_factor = cv.a;
+    info.hubble_h = cv.h;
+    info.kind = cv.kind;
+  }
+  std::string path;
+  cells::BadCellPolicy policy;
+  Converter cv;
+  CellsReadInfo info;
+  std::size_t kept = 0;
+  bool done = false;
+};
+
+CellsChunkReader::CellsChunkReader(const std::string& path, const cells::FieldMap& map, cells::BadCellPolicy policy)
+    : impl_(std::make_unique<Impl>(path, map, policy)) {}
+CellsChunkReader::~CellsChunkReader() = default;
+CellsChunkReader::CellsChunkReader(CellsChunkReader&&) noexcept = default;
+CellsChunkReader& CellsChunkReader::operator=(CellsChunkReader&&) noexcept = default;
+
+std::size_t CellsChunkReader::rows_hint() const { return impl_->cv.src->rows_hint(); }
+const CellsReadInfo& CellsChunkReader::info() const { return impl_->info; }
+CellKind CellsChunkReader::kind() const { return impl_->cv.kind; }
+
+bool CellsChunkReader::next(std::size_t max_rows, cells::GasCells& out) {
+  Impl& m = *impl_;
+  if (max_rows == 0) throw core::DomainError("CellsChunkReader::next: max_rows must be positive");
+  out.kind = m.cv.kind;
+  if (m.done) {
+    m.cv.size_cells(out, 0);
+    return false;
+  }
+  // A chunk may lose all its cells to BadCellPolicy::Drop: read on until
+  // some survive or the file ends.
+  while (true) {
+    const std::size_t n = m.cv.next(max_rows, out, 0);
+    if (n == 0) {
+      m.done = true;
+      m.cv.size_cells(out, 0);
+      if (m.info.rows_read == 0) throw InputError(m.path + ": no cells (0 rows)");
+      if (m.kept == 0) throw InputError(m.path + ": no usable cells: " + m.info.validation.summary());
+      return false;
+    }
+    if (n != out.size()) m.cv.size_cells(out, n);
+    const std::size_t offset = m.info.rows_read;
+    m.info.rows_read += n;
+    cells::ValidationReport r = cells::validate_cells(out);
+    if (!r.ok() && m.policy == cells::BadCellPolicy::Error) {
+      r.first_index += offset;  // name the cell by its row in the file
+      throw InputError(m.path + ": " + r.summary());
+    }
+    merge_report(m.info.validation, r, offset);
+    const std::size_t dropped = cells::apply_bad_cell_policy(out, r, m.policy, m.path);
+    m.info.cells_dropped += dropped;
+    m.kept += out.size();
+    if (out.size() > 0) return true;
+  }
 }
 
 }  // namespace icmscope::io

@@ -181,6 +181,7 @@ FitsImage read_current(fitsfile* f, const std::string& path, int hdu_index) {
   if (naxes[0] < 1 || naxes[1] < 1 || naxes[0] > (1LL << 30) || naxes[1] > (1LL << 30))
     throw core::InputError(path + ", HDU " + hdu + ": image size " + std::to_string(naxes[0]) + " x " +
                            std::to_string(naxes[1]) + " not usable");
+  detail::require_data_in_file(f, path, hdu);
   out.image = core::ImageD(static_cast<int>(naxes[0]), static_cast<int>(naxes[1]));
   double nul = std::numeric_limits<double>::quiet_NaN();
   int anynul = 0;
@@ -203,6 +204,7 @@ FitsImage read_current(fitsfile* f, const std::string& path, int hdu_index) {
 void open_read(detail::FitsHandle& f, const std::string& path) {
   std::error_code ec;
   if (!std::filesystem::exists(path, ec)) throw core::InputError(path + ": no such file");
+  detail::check_fits_cards(path);
   int st = 0;
   if (fits_open_file(f.out(), path.c_str(), READONLY, &st)) detail::throw_fits(st, path, "", "cannot open", false);
 }

@@ -17,6 +17,7 @@ std::string upper_trim(std::string s) {
 }
 
 OgipTable::OgipTable(std::string path) : path_(std::move(path)) {
+  check_fits_cards(path_);
   int st = 0;
   if (fits_open_file(f_.out(), path_.c_str(), READONLY, &st)) {
     const std::string m = fits_message(st);
@@ -72,6 +73,7 @@ bool OgipTable::move_to(const std::vector<std::string>& names, int extver) {
     ext_ = en;
     st = 0;
     check(fits_get_num_rows(f_.get(), &rows_, &st), "reading the number of rows");
+    require_data_in_file(f_.get(), path_, en);
     return true;
   }
   return false;
@@ -142,6 +144,14 @@ void read_row(fitsfile* f, int dtype, int col, long row, std::vector<T>& out, co
     st = 0;
     if (fits_read_descript(f, col, row, &n, &off, &st))
       t.fail(col, "row " + std::to_string(row) + ": reading the variable-length descriptor: " + fits_message(st));
+    // The heap holds at least one bit per element: a damaged descriptor must
+    // not size the buffer.
+    LONGLONG head = 0, start = 0, end = 0;
+    st = 0;
+    fits_get_hduaddrll(f, &head, &start, &end, &st);
+    if (n < 0 || static_cast<LONGLONG>(n) > 8 * (end - start))
+      t.fail(col, "row " + std::to_string(row) + ": variable-length descriptor of " + std::to_string(n) +
+                      " elements, more than the extension holds");
   }
   out.resize(static_cast<std::size_t>(n));
   if (n == 0) return;

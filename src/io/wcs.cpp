@@ -5,6 +5,7 @@
 #include <wcslib/wcsfix.h>
 #include <wcslib/wcshdr.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -122,6 +123,30 @@ Wcs Wcs::from_header(const std::string& header, const std::string& context) {
   std::lock_guard<std::mutex> lock(parse_mutex());
   wcserr_enable(1);
   std::vector<char> hdr(header.begin(), header.end());
+  // Damaged cards are blanked before WCSLIB sees them: FITS cards hold printable
+  // ASCII only (FITS 4.0, section 4.1.1), and a string value without its closing
+  // quote makes WCSLIB 7.12's wcspih read on into the next card and overflow a
+  // buffer (found by fuzz/fuzz_fits_image; tests/data/fuzz_regressions).
+  for (char& c : hdr)
+    if (static_cast<unsigned char>(c) < 0x20 || static_cast<unsigned char>(c) > 0x7e) c = ' ';
+  for (std::size_t card = 0; card + 80 <= hdr.size(); card += 80) {
+    char* k = hdr.data() + card;
+    if (k[8] != '=' || k[9] != ' ') continue;
+    std::size_t i = 10;
+    while (i < 80 && k[i] == ' ') ++i;
+    if (i == 80 || k[i] != '\'') continue;
+    bool closed = false;
+    for (++i; i < 80; ++i) {
+      if (k[i] != '\'') continue;
+      if (i + 1 < 80 && k[i + 1] == '\'') {
+        ++i;  // '' is a quote inside the string
+        continue;
+      }
+      closed = true;
+      break;
+    }
+    if (!closed) std::fill(k, k + 80, ' ');
+  }
   hdr.push_back('\0');
   const int nkeys = static_cast<int>(header.size() / 80);
   int nreject = 0, nwcs = 0;

@@ -578,14 +578,25 @@ MeasureReport measure_images(const MeasureImages& im, const config::MeasureRunSe
     for (std::uint8_t g : good) r.masked_pixels += g ? 0 : 1;
     in.mask = good;
   }
+  // Nothing to measure when every pixel is non-finite, masked or unexposed.
+  std::size_t usable = 0;
+  for (std::size_t i = 0; i < N; ++i)
+    if (good[i] && erel[i] > 0.0 && erel[i] > s.inputs.min_relative_exposure && std::isfinite(in.counts.pixels()[i]))
+      ++usable;
+  if (usable == 0)
+    throw core::InputError(r.counts + ": no usable pixel: every pixel is non-finite, masked or at zero exposure "
+                                      "(expected finite counts >= 0 where exposed; inputs.counts)");
   // Centre.
   if (!s.target.find_centre || s.target.search_radius) {
     const io::PixelPosition p = wcs.sky_to_pixel(s.target.centre_ra_deg, s.target.centre_dec_deg);
     const double cx = p.x - 1.0, cy = p.y - 1.0;
     if (!std::isfinite(cx) || !std::isfinite(cy) || cx < -0.5 || cy < -0.5 || cx > NX - 0.5 || cy > NY - 0.5)
       throw core::InputError("target.centre (RA " + fmt(s.target.centre_ra_deg, "%.6f") + ", Dec " +
-                             fmt(s.target.centre_dec_deg, "%.6f") + ") falls outside " + r.counts + " (pixel " +
-                             fmt(p.x, "%.2f") + ", " + fmt(p.y, "%.2f") + "; the image spans 0.5.." +
+                             fmt(s.target.centre_dec_deg, "%.6f") + ") falls outside " + r.counts + " (" +
+                             (std::isfinite(p.x) && std::isfinite(p.y)
+                                  ? "pixel " + fmt(p.x, "%.2f") + ", " + fmt(p.y, "%.2f")
+                                  : std::string("not on the image's side of the sky")) +
+                             "; the image spans 0.5.." +
                              fmt(NX + 0.5) + " x 0.5.." + fmt(NY + 0.5) + ")");
     r.given_centre = SkyPoint{p.x, p.y, s.target.centre_ra_deg, s.target.centre_dec_deg};
     in.centre = {cx, cy};

@@ -525,7 +525,7 @@ ObserveResult run_observe(const config::ObserveRunSettings& settings, Log& log) 
   auto& ms = s.map;
   const auto& obs = s.observation;
   ObserveResult res;
-  ensure_directory(ms.output.directory);
+  const OutputDirectory output_directory(ms.output.directory);
   auto t0 = clock_type::now();
   const std::clock_t cpu0 = std::clock();
   double cpu_maps = 0.0;
@@ -553,8 +553,7 @@ ObserveResult run_observe(const config::ObserveRunSettings& settings, Log& log) 
       ao.subsamples = ms.cells.analytic_subsamples;
       maps = make_analytic_maps(cm, ms, cosmo, table, log, ao, &stats);
     } else {
-      const auto cells = load_cells(ms.cells, log);
-      maps = make_physical_maps(cells, ms, cosmo, table, log, &stats);
+      maps = cell_source_maps(ms, cosmo, table, log, &stats);
     }
     log.info("observe: " + ms.target.name + ": " + std::to_string(stats.cells_in_field) +
              " cells in the field, on-axis band rate " + fmtg(maps.rate.sum()) + " counts/s");

@@ -37,6 +37,28 @@ void ensure_directory(const std::string& dir) {
     throw core::OutputError(dir + ": the output directory is not writable");
 }
 
+OutputDirectory::OutputDirectory(const std::string& dir) {
+  std::error_code ec;
+  for (fs::path p = fs::path(dir).lexically_normal(); !p.empty() && !fs::exists(p, ec); p = p.parent_path()) {
+    created_.push_back(p.string());
+    if (p == p.parent_path()) break;
+  }
+  try {
+    ensure_directory(dir);
+  } catch (...) {
+    remove_empty();
+    throw;
+  }
+}
+
+OutputDirectory::~OutputDirectory() { remove_empty(); }
+
+void OutputDirectory::remove_empty() const {
+  std::error_code ec;
+  for (const auto& d : created_)
+    if (fs::is_directory(d, ec) && fs::is_empty(d, ec)) fs::remove(d, ec);
+}
+
 void write_text_file(const std::string& path, const std::string& text) {
   const std::string tmp = path + ".tmp-" + std::to_string(::getpid());
   {
@@ -130,7 +152,7 @@ void write_physical_maps(const std::string& path, const PhysicalMaps& maps, cons
 }
 
 ProjectResult run_project(const config::MapRunSettings& s, Log& log) {
-  ensure_directory(s.output.directory);
+  const OutputDirectory output_directory(s.output.directory);
   const auto cosmo = make_cosmology(s.cosmology);
   const auto model = make_spectral_model(s.emission);
   const auto table = make_band_table(*model, s.emission, s.target.redshift);
@@ -142,8 +164,7 @@ ProjectResult run_project(const config::MapRunSettings& s, Log& log) {
     ao.subsamples = s.cells.analytic_subsamples;
     maps = make_analytic_maps(cm, s, cosmo, table, log, ao, &r.stats);
   } else {
-    const auto cells = load_cells(s.cells, log);
-    maps = make_physical_maps(cells, s, cosmo, table, log, &r.stats);
+    maps = cell_source_maps(s, cosmo, table, log, &r.stats);
   }
   const std::string base = (fs::path(s.output.directory) / s.output.prefix).string();
   r.maps_file = base + "_maps.fits";

@@ -11,6 +11,7 @@
 
 #include "icmscope/core/constants.hpp"
 #include "icmscope/core/errors.hpp"
+#include "icmscope/core/text_hash.hpp"
 #include "icmscope/core/version.hpp"
 #include "icmscope/cosmo/cosmology.hpp"
 #include "icmscope/morphology/input.hpp"
@@ -25,6 +26,9 @@ namespace fs = std::filesystem;
 
 namespace {
 
+using core::fnv1a;
+using core::hex16;
+
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
 std::string fmtg(double v, const char* f = "%.6g") {
@@ -34,20 +38,6 @@ std::string fmtg(double v, const char* f = "%.6g") {
 }
 
 std::string full(double v) { return fmtg(v, "%.17g"); }
-
-std::uint64_t fnv1a(const std::string& s, std::uint64_t h = 1469598103934665603ULL) {
-  for (unsigned char c : s) {
-    h ^= c;
-    h *= 1099511628211ULL;
-  }
-  return h;
-}
-
-std::string hex16(std::uint64_t h) {
-  char b[24];
-  std::snprintf(b, sizeof b, "%016llx", static_cast<unsigned long long>(h));
-  return b;
-}
 
 // Content hash of a file (size and modification time above 64 MB); "missing" when unreadable.
 std::string file_hash(const std::string& path) {
@@ -60,15 +50,12 @@ std::string file_hash(const std::string& path) {
   }
   std::ifstream in(path, std::ios::binary);
   if (!in) return "unreadable";
-  std::uint64_t h = 1469598103934665603ULL;
-  char buf[1 << 16];
+  std::uint64_t h = core::kFnvOffset;
+  std::string buf(1 << 16, '\0');
   while (in) {
-    in.read(buf, sizeof buf);
+    in.read(buf.data(), static_cast<std::streamsize>(buf.size()));
     const std::streamsize n = in.gcount();
-    for (std::streamsize i = 0; i < n; ++i) {
-      h ^= static_cast<unsigned char>(buf[i]);
-      h *= 1099511628211ULL;
-    }
+    h = fnv1a(buf.substr(0, static_cast<std::size_t>(n)), h);
   }
   return hex16(h) + " (" + std::to_string(size) + " bytes)";
 }

@@ -762,6 +762,16 @@ struct ChannelReader {
 std::vector<std::vector<double>> project(const ProjectionGrid& grid, const PlaneCells& cells,
                                          const std::vector<WeightChannel>& channels,
                                          const ProjectorSettings& settings, ProjectionStats* stats) {
+  std::vector<std::vector<double>> maps(channels.size());
+  if (grid.nx > 0 && grid.ny > 0 && grid.nx <= 1000000 && grid.ny <= 1000000)
+    for (auto& m : maps) m.assign(grid.pixels(), 0.0);
+  project_add(grid, cells, channels, maps, settings, stats);
+  return maps;
+}
+
+void project_add(const ProjectionGrid& grid, const PlaneCells& cells, const std::vector<WeightChannel>& channels,
+                 std::vector<std::vector<double>>& maps, const ProjectorSettings& settings,
+                 ProjectionStats* stats) {
   // ---- validation ----
   if (grid.nx <= 0 || grid.ny <= 0)
     throw DomainError("project: grid nx, ny must be positive, got " + std::to_string(grid.nx) + " x " +
@@ -826,14 +836,19 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
   S.ntiles = S.ntx * S.nty;
 
   const Setup& Sglobal = S;
-  std::vector<std::vector<double>> maps(static_cast<std::size_t>(K));
-  for (auto& m : maps) m.assign(grid.pixels(), 0.0);
+  if (maps.size() != static_cast<std::size_t>(K))
+    throw DomainError("project: " + std::to_string(maps.size()) + " maps given for " + std::to_string(K) +
+                      " weight channels");
+  for (const auto& m : maps)
+    if (m.size() != grid.pixels())
+      throw DomainError("project: a map has " + std::to_string(m.size()) + " pixels, the grid " +
+                        std::to_string(grid.pixels()));
   ProjectionStats st;
   st.tile_pixels = S.T;
   const std::size_t n = cells.n;
   if (n == 0) {
     if (stats) *stats = st;
-    return maps;
+    return;
   }
 
   int threads = settings.threads > 0 ? settings.threads : core::max_threads();
@@ -1171,7 +1186,6 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
                     (cd.cntP.capacity() + cd.cntS.capacity() + cd.cntK.capacity()) * sizeof(std::uint32_t);
     *stats = st;
   }
-  return maps;
 }
 
 }  // namespace icmscope::projection

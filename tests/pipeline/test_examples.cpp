@@ -55,7 +55,10 @@ TEST_CASE("every shipped YAML file runs", "[examples]") {
     const auto keys = top_level_keys(f);
     const auto out = scratch_dir("examples/" + f.stem().string());
     std::string cmd;
-    if (keys.count("components")) {
+    if (keys.count("exposures_ks")) {
+      // A plan file (exposure planning; its reverse grid too when it has one), plots included.
+      cmd = exe() + " plan -q '" + f.string() + "' --output-dir '" + out.string() + "'";
+    } else if (keys.count("components")) {
       // An analytic cluster model: synthesise a small version.
       cmd = exe() + " synth -q '" + f.string() + "' -o '" + (out / "cells.h5").string() + "' --particles 20000";
     } else if (keys.count("observation")) {
@@ -149,6 +152,26 @@ TEST_CASE("each verb's --example output parses and runs", "[examples]") {
                                        &st);
   INFO(text);
   CHECK(st == 0);
+}
+
+TEST_CASE("the printed plan example runs", "[examples][plan]") {
+  // The printed example names an instrument preset relative to config/examples.
+  const auto out = scratch_dir("examples_printed_plan");
+  int st = 0;
+  const std::string run = run_capture(exe() + " plan --example", &st);
+  REQUIRE(st == 0);
+  fs::create_directories(out / "config" / "examples");
+  fs::copy(source_dir() / "config" / "instruments", out / "config" / "instruments");
+  const auto printed = out / "config" / "examples" / "printed.yaml";
+  { std::ofstream(printed) << run; }
+  const std::string text = run_capture(exe() + " plan -q '" + printed.string() + "' --output-dir '" + out.string() +
+                                           "' --realisations 5 --no-plots 2>&1",
+                                       &st);
+  INFO(text);
+  CHECK(st == 0);
+  CHECK(fs::exists(out / "Scaled-5e14_plan.json"));
+  CHECK(fs::exists(out / "Scaled-5e14_reverse.csv"));
+  CHECK(text.find("CAUTION") != std::string::npos);
 }
 
 TEST_CASE("the printed observe example runs", "[examples]") {

@@ -43,6 +43,11 @@ struct CellSourceSettings {
   int analytic_subsamples = 2;       // Gauss-Legendre points per pixel axis (analytic)
   cells::FieldMap fields;   // default: the project's own HDF5 layout
   cells::BadCellPolicy bad_cells = cells::BadCellPolicy::Error;
+  // Cells file: rows read, converted and deposited at a time (bounded
+  // memory, pipeline::stream_physical_maps); 0 = read the whole file into
+  // memory first. The maps are identical either way. Default: one deposit
+  // block (pipeline::kMapBlockCells).
+  std::size_t chunk_cells = std::size_t{1} << 20;
 };
 
 struct SelectionSettings {

@@ -143,8 +143,10 @@ struct MeasureRunSettings {
 // the others are used when their files exist). ConfigError naming the prefix.
 void resolve_observation(MeasureInputSettings& in);
 
-// Reads a whole MEASURE.yaml (strict: unknown keys rejected), then checks it.
-MeasureRunSettings load_measure_run(const std::string& path);
+// Reads a whole MEASURE.yaml (strict: unknown keys rejected), then checks it. With
+// resolve_observation_products false, inputs.observation is kept but not resolved (and counts not yet
+// required): the caller replaces it (--observation) and resolves it then.
+MeasureRunSettings load_measure_run(const std::string& path, bool resolve_observation_products = true);
 // Consistency of a filled settings struct (after command-line overrides):
 // counts given, one background source, centre RA and Dec together, ranges.
 // Throws ConfigError naming the key.

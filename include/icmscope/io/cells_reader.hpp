@@ -16,6 +16,7 @@
 // or core::ConfigError (an inconsistent field map), one line naming the file
 // and the dataset / column / line.
 #include <cstddef>
+#include <memory>
 #include <string>
 
 #include "icmscope/cells/field_map.hpp"
@@ -44,6 +45,36 @@ struct CellsReadInfo {
 cells::GasCells read_cells(const std::string& path, const cells::FieldMap& map,
                            cells::BadCellPolicy policy = cells::BadCellPolicy::Error,
                            CellsReadInfo* info = nullptr);
+
+// Chunked reading for inputs larger than memory: the file is opened and the
+// field map resolved once (all the checks of read_cells), then each next()
+// hands out the following rows (HDF5 hyperslabs, FITS table row ranges, CSV
+// line blocks), converted and validated. Bad cells: BadCellPolicy::Error ->
+// InputError naming the cell by its row in the file (0-based, as read_cells);
+// Drop -> removed, counted in info(). The cells of all chunks, in order, are
+// exactly those read_cells returns. Memory: about max_rows * (8 bytes per
+// file column + 48 bytes) whatever the file size.
+class CellsChunkReader {
+ public:
+  CellsChunkReader(const std::string& path, const cells::FieldMap& map,
+                   cells::BadCellPolicy policy = cells::BadCellPolicy::Error);
+  ~CellsChunkReader();
+  CellsChunkReader(CellsChunkReader&&) noexcept;
+  CellsChunkReader& operator=(CellsChunkReader&&) noexcept;
+
+  // Replaces `out` with the next cells (from at most max_rows > 0 file rows;
+  // a chunk whose cells were all dropped is skipped). Returns false, with
+  // `out` empty, at the end of the file; InputError then if the file held no
+  // rows or no usable cell.
+  bool next(std::size_t max_rows, cells::GasCells& out);
+  std::size_t rows_hint() const;       // rows in the file when known (HDF5, FITS), 0 for CSV
+  cells::CellKind kind() const;
+  const CellsReadInfo& info() const;   // totals so far; complete once next() returned false
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
 
 // The field map of the project's own HDF5 layout (cells_writer.hpp): internal
 // units, velocity and flags optional, kind from the /cells "kind" attribute.

@@ -65,9 +65,61 @@ cosmo::Cosmology make_cosmology(const config::CosmologySettings& c);
 // The line of sight of the view settings.
 projection::LineOfSight line_of_sight_of(const config::ViewSettings& v);
 
+// Cells are deposited in fixed blocks of this many consecutive cells (the
+// k-th block holds cells [kB, (k+1)B) of the input, after dropped cells are
+// removed), each block by one projection::project_add call. The maps depend
+// on this cut (rounding order), never on how the cells arrive or on the thread
+// count: all-in-memory and chunked runs give bitwise identical maps.
+inline constexpr std::size_t kMapBlockCells = std::size_t{1} << 20;
+
+struct MapOptions {
+  std::size_t block_cells = kMapBlockCells;  // deposit block (cells); tests use small ones
+  int threads = 0;                           // 0 = all OpenMP threads (results do not depend on it)
+};
+
+// Physical maps built from cells that arrive in pieces of any size: add()
+// buffers them into the fixed deposit blocks (MapOptions::block_cells) and
+// deposits each full block; finish() deposits the last partial block and
+// turns the accumulated channels into PhysicalMaps. Working memory: the maps
+// (15 x nx x ny doubles) plus about 90 bytes per block cell plus the
+// projector's chunk budget, independent of the number of cells.
+class MapAccumulator {
+ public:
+  MapAccumulator(const config::MapRunSettings& s, const cosmo::Cosmology& cosmo, const emission::BandTable& table,
+                 const MapOptions& opt = {});
+  ~MapAccumulator();
+  MapAccumulator(const MapAccumulator&) = delete;
+  MapAccumulator& operator=(const MapAccumulator&) = delete;
+
+  // Adds validated cells (velocities are not used).
+  void add(const cells::GasCells& cells);
+  std::size_t cells_added() const;
+  // Deposits the buffered cells and returns the maps; call once.
+  PhysicalMaps finish(Log& log, MapStats* stats = nullptr);
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
 // Project cells into the physical maps. Cells must already be validated.
 PhysicalMaps make_physical_maps(const cells::GasCells& cells, const config::MapRunSettings& s,
                                 const cosmo::Cosmology& cosmo, const emission::BandTable& table, Log& log,
-                                MapStats* stats = nullptr);
+                                MapStats* stats = nullptr, const MapOptions& opt = {});
+
+// The maps of a cells file read in chunks of `chunk_cells` rows
+// (io::CellsChunkReader), each chunk converted, validated and deposited
+// before the next is read: memory stays bounded for any file size. Equal,
+// bitwise, to make_physical_maps of the whole file read at once.
+PhysicalMaps stream_physical_maps(const config::CellSourceSettings& src, std::size_t chunk_cells,
+                                  const config::MapRunSettings& s, const cosmo::Cosmology& cosmo,
+                                  const emission::BandTable& table, Log& log, MapStats* stats = nullptr,
+                                  const MapOptions& opt = {});
+
+// The maps of the settings' cell source (not model_projection: analytic):
+// an analytic model is synthesised in memory; a cells file is streamed in
+// chunks of s.cells.chunk_cells rows, or read whole when chunk_cells is 0.
+PhysicalMaps cell_source_maps(const config::MapRunSettings& s, const cosmo::Cosmology& cosmo,
+                              const emission::BandTable& table, Log& log, MapStats* stats = nullptr);
 
 }  // namespace icmscope::pipeline

@@ -37,4 +37,18 @@ void write_text_file(const std::string& path, const std::string& text);
 // Create a directory (and parents); OutputError naming it when impossible.
 void ensure_directory(const std::string& dir);
 
+// ensure_directory at construction (a run fails early on an unwritable output); the destructor removes the
+// folders it created again when they are still empty, so a run that fails before writing leaves nothing.
+class OutputDirectory {
+ public:
+  explicit OutputDirectory(const std::string& dir);
+  ~OutputDirectory();
+  OutputDirectory(const OutputDirectory&) = delete;
+  OutputDirectory& operator=(const OutputDirectory&) = delete;
+
+ private:
+  void remove_empty() const;
+  std::vector<std::string> created_;  // deepest first
+};
+
 }  // namespace icmscope::pipeline

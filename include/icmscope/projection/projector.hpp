@@ -130,4 +130,14 @@ std::vector<std::vector<double>> project(const ProjectionGrid& grid, const Plane
                                          const ProjectorSettings& settings = {},
                                          ProjectionStats* stats = nullptr);
 
+// The same deposit added onto existing maps (K maps of nx*ny doubles, as
+// returned by project()): project() is project_add() onto zeroed maps. Used to
+// accumulate cells that arrive in pieces (chunked reading): the result depends
+// only on how the cells are cut into calls, never on the thread count, so a
+// caller that cuts at fixed cell counts gets the same maps however it reads.
+// DomainError also when the maps do not match the channels and the grid.
+void project_add(const ProjectionGrid& grid, const PlaneCells& cells, const std::vector<WeightChannel>& channels,
+                 std::vector<std::vector<double>>& maps, const ProjectorSettings& settings = {},
+                 ProjectionStats* stats = nullptr);
+
 }  // namespace icmscope::projection
