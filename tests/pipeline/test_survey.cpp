@@ -87,11 +87,13 @@ std::vector<std::string> csv_lines(const std::string& text) {
   return v;
 }
 
-// The reference catalog of the small sample (2 concurrent targets), made once.
+// The reference catalog of the small sample (2 concurrent targets), made once
+// per process. ctest runs each test case as its own process, in parallel: the
+// folder is per process, so two cases never rebuild one reference folder at once.
 const std::string& reference_catalog() {
   static std::string ref;
   if (ref.empty()) {
-    const auto dir = scratch_dir("survey/reference");
+    const auto dir = scratch_dir("survey/reference_" + std::to_string(static_cast<long>(::getpid())));
     write_file(dir / "small.yaml", small_sample());
     std::string out;
     const int rc = run(exe() + " survey '" + (dir / "small.yaml").string() + "' --threads 2 --omp-threads 1 --progress none --no-plots --output-dir '" +
