@@ -16,7 +16,7 @@ namespace po = boost::program_options;
 namespace icmscope::cli {
 
 int run_measure(const std::vector<std::string>& args) {
-  po::options_description opts(
+  VerbCommand cmd("measure",
       "icmscope measure [MEASURE.yaml] [options]\n\n"
       "Morphology indicators of one counts image (a mock from `observe` or a real observation): centre (peak of\n"
       "the smoothed image, iterated centroid), concentration, centroid shift w, power ratios, rotational and photon\n"
@@ -25,10 +25,10 @@ int run_measure(const std::vector<std::string>& args) {
       "Images are FILE, FILE[EXTNAME] or FILE[HDU number]. Apertures carry their unit: '500 kpc', '1 R500',\n"
       "'90 arcsec', '40 px' (pairs '40/400 kpc'); kpc needs the redshift, R500 also R500 or M500.\n"
       "Options given here override the YAML file (icmscope measure --example prints a complete one).\n"
-      "The readable table goes to stdout; --json / --csv / --png write the machine outputs.\n\noptions");
-  opts.add_options()
-      ("help,h", "this text")
-      ("example", "print a complete, commented MEASURE.yaml and exit")
+      "The readable table goes to stdout; --json / --csv / --png write the machine outputs.\n\noptions",
+      "run");
+  cmd.add_printer("example", "print a complete, commented MEASURE.yaml and exit", config::measure_example_yaml);
+  cmd.options()
       ("observation", po::value<std::string>(),
        "the products of `icmscope observe` by DIR/PREFIX: PREFIX_counts.fits, _exposure, _background, _model "
        "(the expected counts); images named below take precedence")
@@ -59,31 +59,18 @@ int run_measure(const std::vector<std::string>& args) {
       ("json", po::value<std::string>(), "write the JSON here")
       ("csv", po::value<std::string>(), "write the CSV here")
       ("png", po::value<std::string>(), "write a quick-look PNG with the centre and the apertures here")
-      ("no-table", "do not print the table")
-      ("threads", po::value<int>()->default_value(0), "OpenMP threads (0 = OMP_NUM_THREADS or all cores)")
-      ("quiet,q", "print only warnings and errors (and the table)");
-  po::options_description hidden;
-  hidden.add_options()("run", po::value<std::string>());
-  po::positional_options_description pos;
-  pos.add("run", 1);
-  po::variables_map vm;
-  parse_args(args, opts, hidden, pos, vm);
-  if (vm.count("help")) {
-    std::cout << opts << "\n";
-    return 0;
-  }
-  if (vm.count("example")) {
-    std::cout << config::measure_example_yaml();
-    return 0;
-  }
+      ("no-table", "do not print the table");
+  cmd.add_threads_and_quiet("print only warnings and errors (and the table)");
+  if (cmd.parse(args)) return 0;
+  const auto& vm = cmd.vm();
   if (!vm.count("run") && !vm.count("counts") && !vm.count("observation"))
     throw core::ConfigError("missing MEASURE.yaml, --counts FILE or --observation PREFIX (see icmscope measure --help)");
-  set_threads(vm["threads"].as<int>());
+  cmd.apply_threads();
   config::MeasureRunSettings s;
   // --observation replaces the file's inputs.observation: resolved below, after the overrides.
   if (vm.count("run")) s = config::load_measure_run(vm["run"].as<std::string>(), !vm.count("observation"));
   std::string over;
-  const auto note = [&](const std::string& key, const std::string& v) { over += "# " + key + " = " + v + " (command line)\n"; };
+  const auto note = [&](const std::string& key, const std::string& v) { note_override(over, key, v); };
   const auto str = [&](const char* opt) { return vm[opt].as<std::string>(); };
   const auto image = [&](const char* opt, config::ImageRef& ref) {
     if (!vm.count(opt)) return;
@@ -163,11 +150,9 @@ int run_measure(const std::vector<std::string>& args) {
     q.realisations = vm["realisations"].as<int>();
     note("realisations.number", std::to_string(q.realisations));
   }
-  if (vm.count("seed")) {
-    const long long seed = vm["seed"].as<long long>();
-    if (seed < 0) throw core::ConfigError("--seed: expected >= 0");
-    q.seed = static_cast<std::uint64_t>(seed);
-    note("realisations.seed", std::to_string(seed));
+  if (const auto seed = cmd.seed()) {
+    q.seed = *seed;
+    note("realisations.seed", std::to_string(*seed));
   }
   if (vm.count("source")) q.source = str("source"), note("realisations.source", q.source);
   if (vm.count("preset")) {
@@ -184,7 +169,7 @@ int run_measure(const std::vector<std::string>& args) {
   s.resolved_yaml += over;
   config::check_measure_run(s);
 
-  pipeline::Log log(vm.count("quiet") > 0);
+  pipeline::Log log(cmd.quiet());
   const auto r = pipeline::run_measure(s, log);
   if (s.output.table) std::cout << pipeline::measure_table(r.report) << std::flush;
   return 0;

@@ -15,7 +15,7 @@ namespace po = boost::program_options;
 namespace icmscope::cli {
 
 int run_observe(const std::vector<std::string>& args) {
-  po::options_description opts(
+  VerbCommand cmd("observe",
       "icmscope observe RUN.yaml\n\n"
       "One target through one instrument: gas cells (or an analytic model, or a maps file written by `project`)\n"
       "-> expected cluster counts (on-axis area folded per cell, PSF with off-axis zones, exposure map with\n"
@@ -30,51 +30,41 @@ int run_observe(const std::vector<std::string>& args) {
       "  <prefix>_events.fits      EVENTS (TIME, X, Y, RA, DEC, ENERGY, PI, COMPONENT) + GTI   (events: true)\n"
       "  <prefix>_sources.fits     SOURCES truth list                                         (point sources)\n"
       "  <prefix>_counts.png       quick-look of the counts, field edge and chip gaps outlined\n"
-      "  <prefix>_config.yaml, <prefix>_instrument.yaml   resolved configurations (also in FITS HISTORY)\n\noptions");
-  opts.add_options()
-      ("help,h", "this text")
-      ("example", "print a complete, commented RUN.yaml and exit")
-      ("instrument-example", "print a complete, commented instrument file and exit")
+      "  <prefix>_config.yaml, <prefix>_instrument.yaml   resolved configurations (also in FITS HISTORY)\n\noptions",
+      "run");
+  cmd.add_printer("example", "print a complete, commented RUN.yaml and exit", config::observe_example_yaml);
+  cmd.add_printer("instrument-example", "print a complete, commented instrument file and exit",
+                  config::instrument_example_yaml);
+  cmd.options()
       ("output-dir", po::value<std::string>(), "write the outputs here instead of the file's output.directory")
       ("particles", po::value<long long>(), "override cells.model_particles (analytic models only)")
       ("seed", po::value<long long>(), "override observation.seed")
-      ("no-events", "do not write the event list")
-      ("threads", po::value<int>()->default_value(0), "OpenMP threads (0 = OMP_NUM_THREADS or all cores)")
-      ("quiet,q", "print only warnings and errors");
-  po::options_description hidden;
-  hidden.add_options()("run", po::value<std::string>());
-  po::positional_options_description pos;
-  pos.add("run", 1);
-  po::variables_map vm;
-  parse_args(args, opts, hidden, pos, vm);
-  if (vm.count("help")) { std::cout << opts << "\n"; return 0; }
-  if (vm.count("example")) { std::cout << config::observe_example_yaml(); return 0; }
-  if (vm.count("instrument-example")) { std::cout << config::instrument_example_yaml(); return 0; }
-  if (!vm.count("run")) throw core::ConfigError("missing RUN.yaml (see icmscope observe --help)");
-  set_threads(vm["threads"].as<int>());
-  pipeline::Log log(vm.count("quiet") > 0);
-  auto s = config::load_observe_run(vm["run"].as<std::string>());
-  if (vm.count("output-dir")) {
-    s.map.output.directory = vm["output-dir"].as<std::string>();
-    s.resolved_yaml += "# output.directory overridden on the command line: " + s.map.output.directory + "\n";
+      ("no-events", "do not write the event list");
+  cmd.add_threads_and_quiet();
+  if (cmd.parse(args)) return 0;
+  const std::string run = cmd.positional("RUN.yaml");
+  cmd.apply_threads();
+  pipeline::Log log(cmd.quiet());
+  auto s = config::load_observe_run(run);
+  if (cmd.has("output-dir")) {
+    s.map.output.directory = cmd.text("output-dir");
+    note_override(s.resolved_yaml, "output.directory", s.map.output.directory);
   }
-  if (vm.count("particles")) {
-    const long long n = vm["particles"].as<long long>();
+  if (cmd.has("particles")) {
+    const long long n = cmd.vm()["particles"].as<long long>();
     if (n <= 0) throw core::ConfigError("--particles: expected > 0, got " + std::to_string(n));
     if (s.map.cells.model_file.empty())
       throw core::ConfigError("--particles applies to an analytic model (cells.model), not to a cells or maps file");
     s.map.cells.model_particles = n;
-    s.resolved_yaml += "# cells.model_particles overridden on the command line: " + std::to_string(n) + "\n";
+    note_override(s.resolved_yaml, "cells.model_particles", std::to_string(n));
   }
-  if (vm.count("seed")) {
-    const long long v = vm["seed"].as<long long>();
-    if (v < 0) throw core::ConfigError("--seed: expected >= 0, got " + std::to_string(v));
-    s.observation.seed = static_cast<std::uint64_t>(v);
-    s.resolved_yaml += "# observation.seed overridden on the command line: " + std::to_string(v) + "\n";
+  if (const auto seed = cmd.seed()) {
+    s.observation.seed = *seed;
+    note_override(s.resolved_yaml, "observation.seed", std::to_string(*seed));
   }
-  if (vm.count("no-events")) {
+  if (cmd.has("no-events")) {
     s.observation.events = false;
-    s.resolved_yaml += "# observation.events overridden on the command line: false\n";
+    note_override(s.resolved_yaml, "observation.events", "false");
   }
   s.map.resolved_yaml = s.resolved_yaml;
   const auto r = pipeline::run_observe(s, log);

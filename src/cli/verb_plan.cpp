@@ -15,7 +15,7 @@ namespace po = boost::program_options;
 namespace icmscope::cli {
 
 int run_plan(const std::vector<std::string>& args) {
-  po::options_description opts(
+  VerbCommand cmd("plan",
       "icmscope plan PLAN.yaml\n\n"
       "Exposure planning by simulation: how many ks on this instrument before the centroid shift w, the power\n"
       "ratios, the concentration or the photon asymmetry tell whether the cluster is relaxed?\n"
@@ -35,46 +35,36 @@ int run_plan(const std::vector<std::string>& args) {
       "  <prefix>_reverse.csv, <prefix>_reverse.png   the reverse question (when asked)\n"
       "  <prefix>_config.yaml                    resolved configuration\n"
       "CAUTION: simulations with an illustrative instrument model; exposure requests must be confirmed with the\n"
-      "observatory's own calibration and tools.\n\noptions");
-  opts.add_options()
-      ("help,h", "this text")
-      ("example", "print a complete, commented PLAN.yaml and exit")
+      "observatory's own calibration and tools.\n\noptions",
+      "plan");
+  cmd.add_printer("example", "print a complete, commented PLAN.yaml and exit", config::plan_example_yaml);
+  cmd.options()
       ("output-dir", po::value<std::string>(), "write the outputs here instead of the file's output.directory")
       ("realisations", po::value<int>(), "override realisations (per exposure and per reverse grid point)")
       ("seed", po::value<long long>(), "override seed")
-      ("no-plots", "do not draw the PNG plots")
-      ("threads", po::value<int>()->default_value(0), "OpenMP threads (0 = OMP_NUM_THREADS or all cores)")
-      ("quiet,q", "print only the report, warnings and errors");
-  po::options_description hidden;
-  hidden.add_options()("plan", po::value<std::string>());
-  po::positional_options_description pos;
-  pos.add("plan", 1);
-  po::variables_map vm;
-  parse_args(args, opts, hidden, pos, vm);
-  if (vm.count("help")) { std::cout << opts << "\n"; return 0; }
-  if (vm.count("example")) { std::cout << config::plan_example_yaml(); return 0; }
-  if (!vm.count("plan")) throw core::ConfigError("missing PLAN.yaml (see icmscope plan --help)");
-  set_threads(vm["threads"].as<int>());
-  pipeline::Log log(vm.count("quiet") > 0);
-  auto s = config::load_plan_run(vm["plan"].as<std::string>());
-  if (vm.count("output-dir")) {
-    s.map.output.directory = vm["output-dir"].as<std::string>();
-    s.resolved_yaml += "# output.directory overridden on the command line: " + s.map.output.directory + "\n";
+      ("no-plots", "do not draw the PNG plots");
+  cmd.add_threads_and_quiet("print only the report, warnings and errors");
+  if (cmd.parse(args)) return 0;
+  const std::string plan = cmd.positional("PLAN.yaml");
+  cmd.apply_threads();
+  pipeline::Log log(cmd.quiet());
+  auto s = config::load_plan_run(plan);
+  if (cmd.has("output-dir")) {
+    s.map.output.directory = cmd.text("output-dir");
+    note_override(s.resolved_yaml, "output.directory", s.map.output.directory);
   }
-  if (vm.count("realisations")) {
-    const int n = vm["realisations"].as<int>();
+  if (cmd.has("realisations")) {
+    const int n = cmd.vm()["realisations"].as<int>();
     if (n < 5) throw core::ConfigError("--realisations: expected >= 5, got " + std::to_string(n));
     s.realisations = n;
     s.reverse.realisations = n;
-    s.resolved_yaml += "# realisations overridden on the command line: " + std::to_string(n) + "\n";
+    note_override(s.resolved_yaml, "realisations", std::to_string(n));
   }
-  if (vm.count("seed")) {
-    const long long v = vm["seed"].as<long long>();
-    if (v < 0) throw core::ConfigError("--seed: expected >= 0, got " + std::to_string(v));
-    s.seed = static_cast<std::uint64_t>(v);
-    s.resolved_yaml += "# seed overridden on the command line: " + std::to_string(v) + "\n";
+  if (const auto seed = cmd.seed()) {
+    s.seed = *seed;
+    note_override(s.resolved_yaml, "seed", std::to_string(*seed));
   }
-  if (vm.count("no-plots")) s.plots = false;
+  if (cmd.has("no-plots")) s.plots = false;
   const auto r = pipeline::run_plan(s, log);
   std::cout << pipeline::plan_text_report(r, s);
   for (const auto& w : r.written) std::printf("wrote: %s\n", w.c_str());

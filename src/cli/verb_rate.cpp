@@ -26,15 +26,14 @@ void parse_band(const std::string& text, double& lo, double& hi) {
 }  // namespace
 
 int run_rate(const std::vector<std::string>& args) {
-  po::options_description opts(
+  VerbCommand cmd("rate",
       "icmscope rate --kT-keV T [options]\n\n"
       "An isothermal plasma (icmscope's continuum: free-free + recombination, no lines), redshifted and absorbed\n"
       "by the Galactic column (Morrison & McCammon 1983), through an instrument's on-axis effective area:\n"
       "count rate per unit band flux, flux per count rate, and, given a flux (and an exposure), the count rate\n"
       "(and counts). Fluxes are band fluxes in the same observed band, absorbed (as observed) unless\n"
       "--unabsorbed. No vignetting, PSF losses or background: see `icmscope observe` for those.\n\noptions");
-  opts.add_options()
-      ("help,h", "this text")
+  cmd.options()
       ("kT-keV", po::value<double>(), "plasma temperature [keV] (required)")
       ("Z-solar", po::value<double>()->default_value(0.3), "metallicity [solar units of the abundance set]")
       ("redshift", po::value<double>()->default_value(0.0), "redshift")
@@ -49,11 +48,8 @@ int run_rate(const std::vector<std::string>& args) {
        "abundance set: anders_grevesse_1989 | asplund_2009")
       ("no-recombination", "free-free only (no recombination continuum)")
       ("json", "print JSON instead of the table");
-  po::options_description hidden;
-  po::positional_options_description pos;
-  po::variables_map vm;
-  parse_args(args, opts, hidden, pos, vm);
-  if (vm.count("help")) { std::cout << opts << "\n"; return 0; }
+  if (cmd.parse(args)) return 0;
+  const auto& vm = cmd.vm();
   if (!vm.count("kT-keV")) throw core::ConfigError("--kT-keV is required (see icmscope rate --help)");
   pipeline::RateRequest q;
   q.kT_keV = vm["kT-keV"].as<double>();

@@ -14,7 +14,7 @@ namespace po = boost::program_options;
 namespace icmscope::cli {
 
 int run_survey(const std::vector<std::string>& args) {
-  po::options_description opts(
+  VerbCommand cmd("survey",
       "icmscope survey SAMPLE.yaml\n\n"
       "A sample of clusters -> one catalog. Simulated entries (an analytic model or a gas-cells file) are\n"
       "observed through every instrument and exposure along every line of sight, then measured; observed\n"
@@ -30,10 +30,10 @@ int run_survey(const std::vector<std::string>& args) {
       "does not depend on the thread count or order. A rerun skips targets already finished with the same\n"
       "settings (their records carry a configuration hash) and retries the rest; a failing target is listed\n"
       "with its reason in the failures file while the others complete. Exit status: 0 when every target has\n"
-      "a result, 7 when some failed (the catalog holds the others), 2-5 for errors of the sample itself.\n\noptions");
-  opts.add_options()
-      ("help,h", "this text")
-      ("example", "print a complete, commented SAMPLE.yaml and exit")
+      "a result, 7 when some failed (the catalog holds the others), 2-5 for errors of the sample itself.\n\noptions",
+      "sample");
+  cmd.add_printer("example", "print a complete, commented SAMPLE.yaml and exit", config::survey_example_yaml);
+  cmd.options()
       ("output-dir", po::value<std::string>(), "output folder (default: survey.output_directory of the sample)")
       ("threads", po::value<int>()->default_value(0),
        "targets run in parallel (0 = survey.threads, else all cores; 1 per rank with --mpi)")
@@ -49,21 +49,9 @@ int run_survey(const std::vector<std::string>& args) {
        "auto (a bar on a terminal, periodic lines otherwise) | bar | lines | none")
       ("no-plots", "skip the summary plots")
       ("quiet,q", "print only warnings, errors and the summary");
-  po::options_description hidden;
-  hidden.add_options()("sample", po::value<std::string>());
-  po::positional_options_description pos;
-  pos.add("sample", 1);
-  po::variables_map vm;
-  parse_args(args, opts, hidden, pos, vm);
-  if (vm.count("help")) {
-    std::cout << opts << "\n";
-    return 0;
-  }
-  if (vm.count("example")) {
-    std::cout << config::survey_example_yaml();
-    return 0;
-  }
-  if (!vm.count("sample")) throw core::ConfigError("missing SAMPLE.yaml (see icmscope survey --help)");
+  if (cmd.parse(args)) return 0;
+  const std::string sample = cmd.positional("SAMPLE.yaml");
+  const auto& vm = cmd.vm();
   pipeline::SurveyOptions o;
   if (vm.count("output-dir")) o.output_directory = vm["output-dir"].as<std::string>();
   o.threads = vm["threads"].as<int>();
@@ -100,7 +88,7 @@ int run_survey(const std::vector<std::string>& args) {
     }
   const bool quiet = vm.count("quiet") > 0;
   pipeline::Log log(true);  // run-level lines go to the run's log file; the progress display shows the state
-  const auto settings = config::load_survey(vm["sample"].as<std::string>());
+  const auto settings = config::load_survey(sample);
   if (quiet) o.progress = "none";
   const auto r = pipeline::run_survey(settings, o, log);
   if (r.is_root) {

@@ -23,6 +23,7 @@
 #include "icmscope/io/fits_table.hpp"
 #include "icmscope/io/quicklook.hpp"
 #include "icmscope/pipeline/analytic_maps.hpp"
+#include "icmscope/pipeline/maps_file.hpp"
 #include "icmscope/pipeline/project_run.hpp"
 
 namespace icmscope::pipeline {
@@ -405,93 +406,6 @@ Realisation realise_observation(const ExpectedObservation& x, const InstrumentMo
 // ---------------------------------------------------------------------------
 namespace {
 
-emission::BandTable instrument_band_table(const emission::SpectralModel& model, const config::EmissionSettings& e,
-                                          double redshift, const InstrumentModel* inst) {
-  emission::BandSpec band{e.band_min_keV, e.band_max_keV};
-  emission::FoldingSpec fold;
-  fold.redshift = redshift;
-  fold.nH_cm2 = e.nH_cm2;
-  if (inst) area_folding_curve(*inst, fold.area_E_keV, fold.area_cm2);
-  emission::BandGridSpec grid;
-  grid.kT_min_keV = e.table_kT_min_keV;
-  grid.kT_max_keV = e.table_kT_max_keV;
-  grid.n_kT = e.table_kT_points;
-  grid.Z_nodes.clear();
-  for (int i = 0; i < e.table_Z_points; ++i) grid.Z_nodes.push_back(e.table_Z_max_solar * i / (e.table_Z_points - 1));
-  return emission::BandTable(model, band, fold, grid);
-}
-
-// Maps from a `project` output: RATE (photon/(cm2 s), flat area) and T_EW,
-// converted to on-axis count rates with the band-averaged area of an
-// isothermal spectrum at each pixel's T_EW.
-PhysicalMaps maps_from_file(config::ObserveRunSettings& s, const InstrumentModel& inst,
-                            const emission::SpectralModel& model, Log& log) {
-  const std::string& path = s.maps.file;
-  const auto hdr = io::read_fits_header(path, 0);
-  auto rate = io::read_fits_image(path, "RATE");
-  auto tew = io::read_fits_image(path, "T_EW");
-  if (!rate.wcs.valid()) throw core::InputError(path + ", HDU RATE: no WCS");
-  if (rate.image.unit() != "photon/(cm2 s)")
-    throw core::InputError(path + ", HDU RATE: BUNIT '" + rate.image.unit() +
-                           "', expected 'photon/(cm2 s)' (maps made with effective_area: flat)");
-  if (!tew.image.same_grid(rate.image)) throw core::InputError(path + ": T_EW and RATE differ in shape");
-  auto& m = s.map;
-  if (m.target.name.empty()) {
-    m.target.name = hdr.has("OBJECT") ? hdr.text("OBJECT") : "target";
-    m.target.redshift = hdr.number("REDSHIFT");
-  }
-  if (m.output.prefix.empty()) m.output.prefix = m.target.name;
-  const auto a = rate.image.anchor();
-  m.target.ra_deg = a.ra_deg;
-  m.target.dec_deg = a.dec_deg;
-  m.emission.band_min_keV = hdr.number("E_MIN");
-  m.emission.band_max_keV = hdr.number("E_MAX");
-  m.emission.nH_cm2 = hdr.number("NH");
-  m.view.nx = rate.image.nx();
-  m.view.ny = rate.image.ny();
-  m.view.pixel_arcsec = a.pixel_arcsec;
-  const double file_z = hdr.number("REDSHIFT");
-  if (std::fabs(file_z - m.target.redshift) > 1e-6 * std::max(1.0, file_z))
-    throw core::ConfigError(s.source_file + ": target.redshift " + fmtg(m.target.redshift, "%.6g") + " differs from " +
-                            path + " REDSHIFT = " + fmtg(file_z, "%.6g"));
-  const auto flat = instrument_band_table(model, m.emission, m.target.redshift, nullptr);
-  const auto withA = instrument_band_table(model, m.emission, m.target.redshift, &inst);
-  const double Z = s.observation.spectrum_metallicity_solar;
-  // Mean kT for pixels with a rate but no temperature (should not occur).
-  double sr = 0, srt = 0;
-  for (std::size_t i = 0; i < rate.image.size(); ++i)
-    if (rate.image.data()[i] > 0 && tew.image.data()[i] > 0) {
-      sr += rate.image.data()[i];
-      srt += rate.image.data()[i] * tew.image.data()[i];
-    }
-  const double tmean = sr > 0 ? srt / sr : 5.0;
-  PhysicalMaps out;
-  out.rate = rate.image;
-  out.rate.set_unit("count/s");
-  out.t_ew = tew.image;
-  out.t_ew.set_anchor(a);
-  out.t_ew.set_unit("keV");
-  const std::ptrdiff_t n = static_cast<std::ptrdiff_t>(out.rate.size());
-#pragma omp parallel for schedule(static)
-  for (std::ptrdiff_t i = 0; i < n; ++i) {
-    const double r = rate.image.data()[i];
-    if (!(r > 0) || !std::isfinite(r)) {
-      out.rate.data()[i] = 0.0;
-      continue;
-    }
-    const double t = tew.image.data()[i] > 0 ? tew.image.data()[i] : tmean;
-    const double kf = flat.photon_coefficient(t, Z);
-    out.rate.data()[i] = kf > 0 ? r * withA.photon_coefficient(t, Z) / kf : 0.0;
-  }
-  out.kpc_per_arcsec = hdr.maybe_number("KPCPERAS").value_or(0.0);
-  out.pixel_kpc = hdr.maybe_number("PIXKPC").value_or(0.0);
-  out.luminosity_distance_cm = hdr.maybe_number("DL_MPC").value_or(0.0) * K::Mpc_cm;
-  log.info("observe: maps from " + path + " (" + std::to_string(out.rate.nx()) + " x " +
-           std::to_string(out.rate.ny()) + ", " + fmtg(m.emission.band_min_keV) + "-" +
-           fmtg(m.emission.band_max_keV) + " keV); on-axis rate " + fmtg(out.rate.sum()) + " counts/s");
-  return out;
-}
-
 io::NamedImage named(const char* ext, const core::ImageD& im, const char* what,
                      const std::vector<io::FitsKeyword>& keys) {
   io::NamedImage n;
@@ -542,7 +456,9 @@ ObserveResult run_observe(const config::ObserveRunSettings& settings, Log& log) 
   PhysicalMaps maps;
   MapStats stats;
   if (s.from_maps_file) {
-    maps = maps_from_file(s, inst, *model, log);
+    maps = read_project_maps(s.maps.file, ms, s.source_file, inst, *model, obs.spectrum_metallicity_solar, "observe",
+                             log);
+    if (ms.output.prefix.empty()) ms.output.prefix = ms.target.name;
   } else {
     const auto cosmo = make_cosmology(ms.cosmology);
     const auto table = instrument_band_table(*model, ms.emission, ms.target.redshift, &inst);

@@ -32,18 +32,26 @@ std::shared_ptr<const emission::SpectralModel> make_spectral_model(const config:
 
 emission::BandTable make_band_table(const emission::SpectralModel& model, const config::EmissionSettings& e,
                                     double redshift) {
-  emission::BandSpec band{e.band_min_keV, e.band_max_keV};
-  emission::FoldingSpec fold;
-  fold.redshift = redshift;
-  fold.nH_cm2 = e.nH_cm2;
+  std::vector<double> E_keV, A_cm2;
   if (e.effective_area != "flat") {
     const auto arf = io::read_arf(e.effective_area);
     const auto& edges = arf.edges_keV();
     for (std::size_t i = 0; i < arf.size(); ++i) {
-      fold.area_E_keV.push_back(0.5 * (edges[i] + edges[i + 1]));
-      fold.area_cm2.push_back(arf.area_cm2()[i]);
+      E_keV.push_back(0.5 * (edges[i] + edges[i + 1]));
+      A_cm2.push_back(arf.area_cm2()[i]);
     }
   }
+  return make_band_table(model, e, redshift, std::move(E_keV), std::move(A_cm2));
+}
+
+emission::BandTable make_band_table(const emission::SpectralModel& model, const config::EmissionSettings& e,
+                                    double redshift, std::vector<double> area_E_keV, std::vector<double> area_cm2) {
+  emission::BandSpec band{e.band_min_keV, e.band_max_keV};
+  emission::FoldingSpec fold;
+  fold.redshift = redshift;
+  fold.nH_cm2 = e.nH_cm2;
+  fold.area_E_keV = std::move(area_E_keV);
+  fold.area_cm2 = std::move(area_cm2);
   emission::BandGridSpec grid;
   grid.kT_min_keV = e.table_kT_min_keV;
   grid.kT_max_keV = e.table_kT_max_keV;

@@ -12,6 +12,7 @@
 #include "icmscope/io/fits_image.hpp"
 #include "icmscope/morphology/apertures.hpp"
 #include "icmscope/pipeline/analytic_maps.hpp"
+#include "icmscope/pipeline/maps_file.hpp"
 #include "icmscope/pipeline/project_run.hpp"
 
 namespace icmscope::pipeline {
@@ -28,80 +29,6 @@ std::string fmtg(double v, const char* f = "%.4g") {
   char b[64];
   std::snprintf(b, sizeof b, f, v);
   return b;
-}
-
-// Band table with the instrument's on-axis area folded in (null: flat 1 cm^2),
-// as `observe` builds it.
-emission::BandTable band_table(const emission::SpectralModel& model, const config::EmissionSettings& e, double z,
-                               const InstrumentModel* inst) {
-  emission::BandSpec band{e.band_min_keV, e.band_max_keV};
-  emission::FoldingSpec fold;
-  fold.redshift = z;
-  fold.nH_cm2 = e.nH_cm2;
-  if (inst) area_folding_curve(*inst, fold.area_E_keV, fold.area_cm2);
-  emission::BandGridSpec grid;
-  grid.kT_min_keV = e.table_kT_min_keV;
-  grid.kT_max_keV = e.table_kT_max_keV;
-  grid.n_kT = e.table_kT_points;
-  grid.Z_nodes.clear();
-  for (int i = 0; i < e.table_Z_points; ++i) grid.Z_nodes.push_back(e.table_Z_max_solar * i / (e.table_Z_points - 1));
-  return emission::BandTable(model, band, fold, grid);
-}
-
-// A `project` maps file (RATE photon/(cm2 s) with a flat area, T_EW) turned
-// into on-axis count rates with the band-averaged area of an isothermal
-// spectrum at each pixel's T_EW (the conversion `observe` applies to maps files).
-PhysicalMaps maps_from_project_file(const std::string& path, config::MapRunSettings& m, const InstrumentModel& inst,
-                                    const emission::SpectralModel& model, double Z, Log& log) {
-  const auto hdr = io::read_fits_header(path, 0);
-  auto rate = io::read_fits_image(path, "RATE");
-  auto tew = io::read_fits_image(path, "T_EW");
-  if (!rate.wcs.valid()) throw core::InputError(path + ", HDU RATE: no WCS (maps.file)");
-  if (rate.image.unit() != "photon/(cm2 s)")
-    throw core::InputError(path + ", HDU RATE: BUNIT '" + rate.image.unit() +
-                           "', expected 'photon/(cm2 s)' (maps made with effective_area: flat) (maps.file)");
-  if (!tew.image.same_grid(rate.image)) throw core::InputError(path + ": T_EW and RATE differ in shape (maps.file)");
-  const double file_z = hdr.number("REDSHIFT");
-  if (std::fabs(file_z - m.target.redshift) > 1e-6 * std::max(1.0, file_z))
-    throw core::ConfigError(m.source_file + ": target.redshift " + fmtg(m.target.redshift, "%.6g") + " differs from " +
-                            path + " REDSHIFT = " + fmtg(file_z, "%.6g"));
-  m.emission.band_min_keV = hdr.number("E_MIN");
-  m.emission.band_max_keV = hdr.number("E_MAX");
-  m.emission.nH_cm2 = hdr.number("NH");
-  const auto a = rate.image.anchor();
-  m.view.nx = rate.image.nx();
-  m.view.ny = rate.image.ny();
-  m.view.pixel_arcsec = a.pixel_arcsec;
-  const auto flat = band_table(model, m.emission, m.target.redshift, nullptr);
-  const auto withA = band_table(model, m.emission, m.target.redshift, &inst);
-  double sr = 0, srt = 0;
-  for (std::size_t i = 0; i < rate.image.size(); ++i)
-    if (rate.image.data()[i] > 0 && tew.image.data()[i] > 0) {
-      sr += rate.image.data()[i];
-      srt += rate.image.data()[i] * tew.image.data()[i];
-    }
-  const double tmean = sr > 0 ? srt / sr : 5.0;
-  PhysicalMaps out;
-  out.rate = rate.image;
-  out.rate.set_unit("count/s");
-  out.t_ew = tew.image;
-  out.t_ew.set_anchor(a);
-  out.t_ew.set_unit("keV");
-  for (std::size_t i = 0; i < out.rate.size(); ++i) {
-    const double r = rate.image.data()[i];
-    if (!(r > 0) || !std::isfinite(r)) {
-      out.rate.data()[i] = 0.0;
-      continue;
-    }
-    const double t = tew.image.data()[i] > 0 ? tew.image.data()[i] : tmean;
-    const double kf = flat.photon_coefficient(t, Z);
-    out.rate.data()[i] = kf > 0 ? r * withA.photon_coefficient(t, Z) / kf : 0.0;
-  }
-  out.kpc_per_arcsec = hdr.maybe_number("KPCPERAS").value_or(0.0);
-  out.pixel_kpc = hdr.maybe_number("PIXKPC").value_or(0.0);
-  log.info("plan: maps from " + path + " (" + std::to_string(out.rate.nx()) + " x " + std::to_string(out.rate.ny()) +
-           "); on-axis rate " + fmtg(out.rate.sum()) + " counts/s");
-  return out;
 }
 
 config::ObservationSettings observation_of(const config::PlanRunSettings& s, double exposure_ks) {
@@ -184,7 +111,7 @@ PlanTarget build_scaled_target(const cells::ScaledClusterSpec& spec, const confi
   t.r500_kpc = t.scaling.r500_kpc;
   t.r500_source = "scaling relations (scaled cluster)";
   const double s_model = seconds_since(t0);
-  const auto table = band_table(*ctx.model, m.emission, spec.redshift, ctx.instrument.get());
+  const auto table = instrument_band_table(*ctx.model, m.emission, spec.redshift, ctx.instrument.get());
   const double s_table = seconds_since(t0) - s_model;
   Log quiet(true);
   AnalyticMapOptions ao;
@@ -222,9 +149,10 @@ PlanTarget build_plan_target(const config::PlanRunSettings& s, const PlanContext
   PhysicalMaps maps;
   Log quiet(true);
   if (s.target_kind == "maps") {
-    maps = maps_from_project_file(s.maps_file, m, *ctx.instrument, *ctx.model, s.spectrum_metallicity_solar, log);
+    maps = read_project_maps(s.maps_file, m, s.source_file, *ctx.instrument, *ctx.model, s.spectrum_metallicity_solar,
+                             "plan", log);
   } else {
-    const auto table = band_table(*ctx.model, m.emission, m.target.redshift, ctx.instrument.get());
+    const auto table = instrument_band_table(*ctx.model, m.emission, m.target.redshift, ctx.instrument.get());
     if (s.target_kind == "model" && m.cells.model_projection == "analytic") {
       const auto cm = config::load_cluster_model(m.cells.model_file);
       if (!(t.m500_msun > 0) && !(t.r500_kpc > 0) && cm.m500_msun) {

@@ -133,3 +133,17 @@ TEST_CASE("fuzz regressions: declared data beyond the end of the file is refused
   CHECK_THROWS_WITH(icmscope::io::read_fits_image(img.string()), Contains("bytes after the header"));
   CHECK_THROWS_WITH(icmscope::io::read_arf(arf.string()), Contains("bytes after the header"));
 }
+
+TEST_CASE("fuzz regressions: an extension header without GCOUNT is refused before CFITSIO parses it", "[io][fuzz]") {
+  // The GCOUNT card of a binary table is damaged (its name overwritten): CFITSIO
+  // 4.2 then sizes a calloc from an uninitialised variable (valgrind: ffgttb;
+  // AddressSanitizer: allocation-size-too-big, a different size every run).
+  // PCOUNT and GCOUNT are mandatory in every extension header (FITS 4.0, section 7).
+  using Catch::Matchers::Contains;
+  const fs::path r = source_dir() / "tests/data/fuzz_regressions";
+  const fs::path scratch = icmscope::testing::scratch_dir("fuzz_gcount");
+  const fs::path rsp = scratch / "rsp.fits";
+  fs::copy_file(r / "ogip_response/cfitsio_calloc_damaged_gcount.fits", rsp, fs::copy_options::overwrite_existing);
+  CHECK_THROWS_AS(icmscope::io::read_arf(rsp.string()), icmscope::core::InputError);
+  CHECK_THROWS_WITH(icmscope::io::read_rmf(rsp.string()), Contains("HDU 1: no GCOUNT card"));
+}

@@ -60,6 +60,11 @@ std::shared_ptr<const emission::SpectralModel> make_spectral_model(const config:
 emission::BandTable make_band_table(const emission::SpectralModel& model, const config::EmissionSettings& e,
                                     double redshift);
 
+// The same with an explicit on-axis area curve (nodes [keV], area [cm^2];
+// empty: a flat 1 cm^2), ignoring e.effective_area.
+emission::BandTable make_band_table(const emission::SpectralModel& model, const config::EmissionSettings& e,
+                                    double redshift, std::vector<double> area_E_keV, std::vector<double> area_cm2);
+
 cosmo::Cosmology make_cosmology(const config::CosmologySettings& c);
 
 // The line of sight of the view settings.

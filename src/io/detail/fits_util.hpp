@@ -67,8 +67,12 @@ inline void require_data_in_file(fitsfile* f, const std::string& file, const std
 // tests/data/fuzz_regressions). An unquoted value must be a logical, a number
 // or a complex pair (FITS 4.0, section 4.2); long unquoted values that are
 // none of these are refused here, short sloppy ones (DATE = 2020-01-01) are
-// left to CFITSIO. Files that do not start with a plain FITS header (e.g.
-// compressed ones) and damaged block structures are left to CFITSIO too.
+// left to CFITSIO. An extension header must also hold PCOUNT and GCOUNT with
+// integer values (mandatory, FITS 4.0 sections 7.1-7.3): without them CFITSIO
+// 4.2 sizes an allocation from an uninitialised variable (ffgttb; valgrind,
+// tests/data/fuzz_regressions/ogip_response/cfitsio_calloc_damaged_gcount.fits).
+// Files that do not start with a plain FITS header (e.g. compressed ones) and
+// damaged block structures are left to CFITSIO too.
 inline void check_fits_cards(const std::string& path) {
   std::FILE* fp = std::fopen(path.c_str(), "rb");
   if (!fp) return;
@@ -87,10 +91,11 @@ inline void check_fits_cards(const std::string& path) {
   char block[2880];
   for (int hdu = 0;; ++hdu) {
     long long bitpix = 0, naxis = 0, pcount = 0, gcount = 1, n1 = 1, n2plus = 1;
-    bool end = false;
+    bool end = false, has_pcount = false, has_gcount = false;
     for (long card_no = 1; !end; ) {
       if (std::fread(block, 1, 2880, fp) != 2880) return;
       if (hdu == 0 && card_no == 1 && std::memcmp(block, "SIMPLE  =", 9) != 0) return;
+      if (hdu > 0 && card_no == 1 && std::memcmp(block, "XTENSION=", 9) != 0) return;  // not a header: CFITSIO's call
       for (int c = 0; c < 36; ++c, ++card_no) {
         const char* k = block + 80 * c;
         if (std::memcmp(k, "END     ", 8) == 0) {
@@ -121,8 +126,8 @@ inline void check_fits_cards(const std::string& path) {
         long long v = 0;
         if (std::memcmp(k, "BITPIX  ", 8) == 0 && int_value(k, v)) bitpix = v;
         else if (std::memcmp(k, "NAXIS   ", 8) == 0 && int_value(k, v)) naxis = v;
-        else if (std::memcmp(k, "PCOUNT  ", 8) == 0 && int_value(k, v)) pcount = v;
-        else if (std::memcmp(k, "GCOUNT  ", 8) == 0 && int_value(k, v)) gcount = v;
+        else if (std::memcmp(k, "PCOUNT  ", 8) == 0 && int_value(k, v)) pcount = v, has_pcount = true;
+        else if (std::memcmp(k, "GCOUNT  ", 8) == 0 && int_value(k, v)) gcount = v, has_gcount = true;
         else if (std::memcmp(k, "NAXIS", 5) == 0 && k[5] >= '1' && k[5] <= '9' && int_value(k, v)) {
           const int axis = std::atoi(std::string(k + 5, 3).c_str());
           if (v < 0 || v > (1LL << 40)) return;
@@ -131,6 +136,9 @@ inline void check_fits_cards(const std::string& path) {
         }
       }
     }
+    if (hdu > 0 && (!has_pcount || !has_gcount))
+      throw core::InputError(path + ", HDU " + std::to_string(hdu) + ": no " + (has_pcount ? "GCOUNT" : "PCOUNT") +
+                             " card with an integer value (mandatory in an extension header, FITS 4.0 section 7)");
     // Skip the data (random groups: NAXIS1 = 0) to the next header.
     if (bitpix == 0 || pcount < 0 || gcount < 0 || pcount > (1LL << 50) || gcount > (1LL << 20)) return;
     const long double cells = naxis == 0 ? 0.0L : static_cast<long double>(n1 == 0 ? 1 : n1) * n2plus;
