@@ -230,4 +230,14 @@ void answer_goals(const config::PlanRunSettings& s, const std::vector<PlanExposu
   summarise(rep[ng], all);
 }
 
+double level_crossing(double x0, double f0, double x1, double f1, double level, bool log_x) {
+  if (!std::isfinite(x0) || !std::isfinite(x1) || !std::isfinite(f0) || !std::isfinite(f1) || !std::isfinite(level))
+    return std::nan("");
+  if (log_x && (!(x0 > 0) || !(x1 > 0))) return std::nan("");
+  if (f1 == f0) return x1;
+  const double t = std::clamp((level - f0) / (f1 - f0), 0.0, 1.0);
+  if (log_x) return std::exp(std::log(x0) + t * (std::log(x1) - std::log(x0)));
+  return x0 + t * (x1 - x0);
+}
+
 }  // namespace icmscope::pipeline

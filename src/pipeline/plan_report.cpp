@@ -59,6 +59,12 @@ std::string jarr(const std::vector<double>& v) {
   return o + "]";
 }
 
+std::string jflags(const std::vector<char>& v) {
+  std::string o = "[";
+  for (std::size_t i = 0; i < v.size(); ++i) o += std::string(i ? ", " : "") + (v[i] ? "true" : "false");
+  return o + "]";
+}
+
 std::string col(const config::IndicatorRef& r) { return indicator_column(r.name, r.aperture); }
 
 std::string caution_box() {
@@ -255,7 +261,10 @@ std::string json_report(const PlanResult& r, const config::PlanRunSettings& s) {
       << jstr(v.lm_relation) << ", \"lm_reference\": " << jstr(v.lm_reference) << ",\n    \"m500_msun\": "
       << jarr(v.m500_msun) << ", \"redshift\": " << jarr(v.redshift) << ",\n    \"min_m500_msun_at_redshift\": "
       << jarr(v.min_mass_at_z) << ", \"max_redshift_at_m500\": " << jarr(v.max_redshift_at_mass)
-      << ",\n    \"grid\": [";
+      << ",\n    \"min_m500_msun_at_redshift_interpolated\": " << jarr(v.min_mass_interp_at_z)
+      << ", \"min_m500_at_grid_edge\": " << jflags(v.min_mass_at_edge)
+      << ",\n    \"max_redshift_at_m500_interpolated\": " << jarr(v.max_redshift_interp_at_mass)
+      << ", \"max_redshift_at_grid_edge\": " << jflags(v.max_redshift_at_edge) << ",\n    \"grid\": [";
     for (std::size_t i = 0; i < v.grid.size(); ++i) {
       const auto& p = v.grid[i];
       o << (i ? ",\n      " : "\n      ") << "{\"m500_msun\": " << jnum(p.m500_msun) << ", \"redshift\": "
@@ -494,17 +503,30 @@ std::string plan_text_report(const PlanResult& r, const config::PlanRunSettings&
       << (v.class_label.empty() ? "(dominant)" : v.class_label) << " in >= " << num(100 * v.confidence, "%.0f")
       << "% of " << v.realisations << " realisations; clusters scaled with M-T " << v.mt_relation << ", L-M "
       << v.lm_relation << "\n";
-    o << "  faintest cluster per redshift (grid resolution):\n";
-    for (std::size_t iz = 0; iz < v.redshift.size(); ++iz)
-      o << "    z = " << num(v.redshift[iz], "%.3g") << ": M500 >= "
-        << (std::isfinite(v.min_mass_at_z[iz]) ? num(v.min_mass_at_z[iz], "%.3g") + " Msun" : "none of the grid")
-        << "\n";
-    o << "  most distant cluster per mass (grid resolution):\n";
-    for (std::size_t iM = 0; iM < v.m500_msun.size(); ++iM)
-      o << "    M500 = " << num(v.m500_msun[iM], "%.3g") << " Msun: z <= "
-        << (std::isfinite(v.max_redshift_at_mass[iM]) ? num(v.max_redshift_at_mass[iM], "%.3g")
-                                                      : std::string("none of the grid"))
-        << "\n";
+    o << "  faintest cluster per redshift (grid point; between grid points, fraction linear in log M500):\n";
+    for (std::size_t iz = 0; iz < v.redshift.size(); ++iz) {
+      o << "    z = " << num(v.redshift[iz], "%.3g") << ": M500 >= ";
+      if (!std::isfinite(v.min_mass_at_z[iz]))
+        o << "none of the grid";
+      else if (v.min_mass_at_edge[iz])
+        o << num(v.min_mass_at_z[iz], "%.3g") << " Msun (lowest mass of the grid: an upper bound)";
+      else
+        o << num(v.min_mass_at_z[iz], "%.3g") << " Msun (interpolated " << num(v.min_mass_interp_at_z[iz], "%.3g")
+          << ")";
+      o << "\n";
+    }
+    o << "  most distant cluster per mass (grid point; between grid points, fraction linear in z):\n";
+    for (std::size_t iM = 0; iM < v.m500_msun.size(); ++iM) {
+      o << "    M500 = " << num(v.m500_msun[iM], "%.3g") << " Msun: z <= ";
+      if (!std::isfinite(v.max_redshift_at_mass[iM]))
+        o << "none of the grid";
+      else if (v.max_redshift_at_edge[iM])
+        o << num(v.max_redshift_at_mass[iM], "%.3g") << " (highest redshift of the grid: a lower bound)";
+      else
+        o << num(v.max_redshift_at_mass[iM], "%.3g") << " (interpolated "
+          << num(v.max_redshift_interp_at_mass[iM], "%.3g") << ")";
+      o << "\n";
+    }
     o << "\n";
   }
   o << caution_box();

@@ -311,6 +311,45 @@ PlanResult run_plan(const config::PlanRunSettings& s, Log& log, bool write_outpu
         if (!rv.grid[iz * nM + iM].determined) break;
         rv.max_redshift_at_mass[iM] = q.redshift[iz];
       }
+    // Between grid points: where the fraction crosses the confidence.
+    rv.min_mass_interp_at_z.assign(nz, kNaN);
+    rv.min_mass_at_edge.assign(nz, 0);
+    for (std::size_t iz = 0; iz < nz; ++iz) {
+      std::size_t first = nM;  // first mass of the determined run that reaches the top of the grid
+      for (std::size_t iM = nM; iM-- > 0;) {
+        if (!rv.grid[iz * nM + iM].determined) break;
+        first = iM;
+      }
+      if (first == nM) continue;
+      if (first == 0) {
+        rv.min_mass_interp_at_z[iz] = q.m500_msun[0];
+        rv.min_mass_at_edge[iz] = 1;
+        continue;
+      }
+      const auto& lo = rv.grid[iz * nM + first - 1];
+      const auto& hi = rv.grid[iz * nM + first];
+      rv.min_mass_interp_at_z[iz] =
+          level_crossing(lo.m500_msun, lo.fraction, hi.m500_msun, hi.fraction, q.confidence, true);
+    }
+    rv.max_redshift_interp_at_mass.assign(nM, kNaN);
+    rv.max_redshift_at_edge.assign(nM, 0);
+    for (std::size_t iM = 0; iM < nM; ++iM) {
+      std::size_t last = nz;  // last redshift of the determined run that starts at the lowest one
+      for (std::size_t iz = 0; iz < nz; ++iz) {
+        if (!rv.grid[iz * nM + iM].determined) break;
+        last = iz;
+      }
+      if (last == nz) continue;
+      if (last + 1 == nz) {
+        rv.max_redshift_interp_at_mass[iM] = q.redshift[nz - 1];
+        rv.max_redshift_at_edge[iM] = 1;
+        continue;
+      }
+      const auto& lo = rv.grid[last * nM + iM];
+      const auto& hi = rv.grid[(last + 1) * nM + iM];
+      rv.max_redshift_interp_at_mass[iM] =
+          level_crossing(lo.redshift, lo.fraction, hi.redshift, hi.fraction, q.confidence, false);
+    }
   }
   res.seconds = seconds_since(t0);
   if (write_outputs) res.written = write_plan_outputs(res, s, log);

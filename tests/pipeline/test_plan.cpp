@@ -231,6 +231,21 @@ TEST_CASE("plan: goal interpolation reproduces closed forms", "[plan]") {
   CHECK(a.exposure_ks < 8.0);
 }
 
+TEST_CASE("plan: the reverse question's crossing between grid points reproduces closed forms", "[plan]") {
+  // Closed forms (common practice: linear interpolation of a monotonic metric).
+  // A fraction linear in log M: f = 0.4 + 0.2 log10(M / 1e14) = 0.8 at log10(M / 1e14) = 2, M = 1e16;
+  // between grid masses 3e15 and 3e16 the log-linear crossing is exact.
+  auto f = [](double M) { return 0.4 + 0.2 * std::log10(M / 1e14); };
+  CHECK(pipeline::level_crossing(3e15, f(3e15), 3e16, f(3e16), 0.8, true) == Approx(1e16).epsilon(1e-12));
+  // Decreasing with z (the most distant redshift): f = 0.95 - 0.5 z crosses 0.8 at z = 0.3 exactly.
+  CHECK(pipeline::level_crossing(0.2, 0.85, 0.4, 0.75, 0.8, false) == Approx(0.3).epsilon(1e-12));
+  // Equal fractions: the determined point; non-finite input: NaN; out-of-bracket levels clamp to the ends.
+  CHECK(pipeline::level_crossing(1.0, 0.8, 2.0, 0.8, 0.8, false) == 2.0);
+  CHECK(std::isnan(pipeline::level_crossing(1.0, std::nan(""), 2.0, 0.8, 0.8, false)));
+  CHECK(std::isnan(pipeline::level_crossing(0.0, 0.5, 2.0, 0.9, 0.8, true)));
+  CHECK(pipeline::level_crossing(1.0, 0.5, 2.0, 0.7, 0.8, false) == 2.0);
+}
+
 TEST_CASE("plan: the shortest exposure is stable under reseeding within its quoted uncertainty", "[plan]") {
   const Fixture& F = bright();
   const std::string goals =

@@ -164,6 +164,25 @@ with tempfile.TemporaryDirectory() as tmp:
         got = rv["min_m500_msun_at_redshift"][iz]
         check((lowest is None and got is None) or (got is not None and rel(got, lowest) < 1e-9),
               f"lowest mass at z = {zz}")
+    # Between grid points: the fraction is interpolated linearly in log M500 between the last undetermined and the
+    # first determined mass (common practice: linear interpolation of a monotonic metric); recomputed here.
+    frac = {(float(row["redshift"]), float(row["m500_msun"])): float(row["fraction"]) for row in r}
+    for iz, zz in enumerate(zs):
+        lowest = rv["min_m500_msun_at_redshift"][iz]
+        got = rv["min_m500_msun_at_redshift_interpolated"][iz]
+        if lowest is None:
+            check(got is None, f"no interpolated mass at z = {zz} when none is determined")
+            continue
+        k = Ms.index(lowest)
+        if k == 0:
+            check(rv["min_m500_at_grid_edge"][iz] and rel(got, lowest) < 1e-12, f"grid edge at z = {zz}")
+            continue
+        f0, f1 = frac[(zz, Ms[k - 1])], frac[(zz, Ms[k])]
+        t = min(max((rv["confidence"] - f0) / (f1 - f0), 0.0), 1.0) if f1 != f0 else 1.0
+        want = math.exp(math.log(Ms[k - 1]) + t * (math.log(Ms[k]) - math.log(Ms[k - 1])))
+        check(rel(got, want) < 1e-6 and Ms[k - 1] <= got * (1 + 1e-9) and got <= Ms[k] * (1 + 1e-9),  # 9-digit files
+              f"interpolated lowest mass at z = {zz}: {got:.4g} vs {want:.4g}")
+    check(len(rv["max_redshift_at_m500_interpolated"]) == len(Ms), "one interpolated redshift per mass")
     # The scaled clusters of the grid: R500 from astropy, as above.
     for row in r:
         rc = cosmo.critical_density(float(row["redshift"])).to(u.Msun / u.kpc ** 3).value

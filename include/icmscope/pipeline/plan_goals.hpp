@@ -36,6 +36,13 @@ double goal_metric(const config::PlanGoal& g, const config::PlanRunSettings& s, 
 void shortest_exposure(const config::PlanGoal& g, const std::vector<double>& exposures_ks,
                        const std::vector<double>& metric, double threshold, GoalAnswer& out);
 
+// Where a metric, linear between two grid points in x (log_x: in log x),
+// crosses `level`: x0 + (level - f0) / (f1 - f0) (x1 - x0), in log x when
+// log_x. Requires f0 and f1 on either side of level (either order); returns
+// x1 when f1 == f0 and NaN for non-finite input. Used by the reverse question
+// (class fraction against log M500 and against z).
+double level_crossing(double x0, double f0, double x1, double f1, double level, bool log_x);
+
 // Answers for every goal and for all goals together, with bootstrap uncertainties.
 void answer_goals(const config::PlanRunSettings& s, const std::vector<PlanExposure>& ex,
                   std::vector<GoalAnswer>& goals, GoalAnswer& all);

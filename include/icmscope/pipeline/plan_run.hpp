@@ -103,6 +103,12 @@ struct ReverseAnswer {
   std::vector<ReversePoint> grid;                // redshift-major: grid[iz * nM + iM]
   std::vector<double> min_mass_at_z;             // per redshift: lowest M500 determined at it and above (NaN: none)
   std::vector<double> max_redshift_at_mass;      // per mass: highest z determined at it and below (NaN: none)
+  // The same between grid points: the class fraction interpolated linearly in
+  // log M500 (in z) between the last undetermined and the first determined
+  // grid point (plan_goals level_crossing); equal to the grid value when the
+  // run reaches the grid edge (a bound, see *_at_edge), NaN when none.
+  std::vector<double> min_mass_interp_at_z, max_redshift_interp_at_mass;
+  std::vector<char> min_mass_at_edge, max_redshift_at_edge;  // 1: the grid edge was reached (a bound)
   std::string mt_relation, lm_relation, mt_reference, lm_reference;
 };
 
