@@ -7,20 +7,13 @@
 
 #include "icmscope/core/constants.hpp"
 #include "icmscope/core/errors.hpp"
+#include "icmscope/core/text_format.hpp"
 #include "icmscope/io/fits_header.hpp"
 #include "icmscope/io/fits_image.hpp"
 
 namespace icmscope::pipeline {
 
-namespace {
-
-std::string fmtg(double v, const char* f = "%.4g") {
-  char b[64];
-  std::snprintf(b, sizeof b, f, v);
-  return b;
-}
-
-}  // namespace
+using core::format_number;
 
 emission::BandTable instrument_band_table(const emission::SpectralModel& model, const config::EmissionSettings& e,
                                           double redshift, const InstrumentModel* inst) {
@@ -46,8 +39,8 @@ PhysicalMaps read_project_maps(const std::string& path, config::MapRunSettings& 
     m.target.redshift = file_z;
   }
   if (std::fabs(file_z - m.target.redshift) > 1e-6 * std::max(1.0, file_z))
-    throw core::ConfigError(settings_file + ": target.redshift " + fmtg(m.target.redshift, "%.6g") + " differs from " +
-                            path + " REDSHIFT = " + fmtg(file_z, "%.6g"));
+    throw core::ConfigError(settings_file + ": target.redshift " + format_number(m.target.redshift, "%.6g") + " differs from " +
+                            path + " REDSHIFT = " + format_number(file_z, "%.6g"));
   const auto a = rate.image.anchor();
   m.target.ra_deg = a.ra_deg;
   m.target.dec_deg = a.dec_deg;
@@ -89,8 +82,8 @@ PhysicalMaps read_project_maps(const std::string& path, config::MapRunSettings& 
   out.pixel_kpc = hdr.maybe_number("PIXKPC").value_or(0.0);
   out.luminosity_distance_cm = hdr.maybe_number("DL_MPC").value_or(0.0) * core::constants::Mpc_cm;
   log.info(verb + ": maps from " + path + " (" + std::to_string(out.rate.nx()) + " x " +
-           std::to_string(out.rate.ny()) + ", " + fmtg(m.emission.band_min_keV) + "-" +
-           fmtg(m.emission.band_max_keV) + " keV); on-axis rate " + fmtg(out.rate.sum()) + " counts/s");
+           std::to_string(out.rate.ny()) + ", " + format_number(m.emission.band_min_keV) + "-" +
+           format_number(m.emission.band_max_keV) + " keV); on-axis rate " + format_number(out.rate.sum()) + " counts/s");
   return out;
 }
 

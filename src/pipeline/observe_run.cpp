@@ -13,6 +13,7 @@
 #include "icmscope/core/constants.hpp"
 #include "icmscope/core/errors.hpp"
 #include "icmscope/core/random.hpp"
+#include "icmscope/core/text_format.hpp"
 #include "icmscope/emission/absorption.hpp"
 #include "icmscope/emission/band_table.hpp"
 #include "icmscope/instrument/convolve.hpp"
@@ -25,24 +26,16 @@
 #include "icmscope/pipeline/analytic_maps.hpp"
 #include "icmscope/pipeline/maps_file.hpp"
 #include "icmscope/pipeline/project_run.hpp"
+#include "icmscope/pipeline/stage_clock.hpp"
 
 namespace icmscope::pipeline {
 
+using core::format_number;
+
 namespace fs = std::filesystem;
 namespace K = core::constants;
-using clock_type = std::chrono::steady_clock;
 
 namespace {
-
-std::string fmtg(double v, const char* f = "%.4g") {
-  char b[64];
-  std::snprintf(b, sizeof b, f, v);
-  return b;
-}
-
-double seconds_since(clock_type::time_point t0) {
-  return std::chrono::duration<double>(clock_type::now() - t0).count();
-}
 
 const char* component_name(int c) {
   static const char* names[kNComp] = {"cluster", "point sources", "sky background", "particle background"};
@@ -306,8 +299,8 @@ ExpectedObservation expect_observation(const PhysicalMaps& maps, const config::O
     return false;
   }();
   if (!has_area)
-    throw core::ConfigError(inst.settings.source_file + ": effective_area: zero everywhere in the band " + fmtg(e_lo) +
-                            "-" + fmtg(e_hi) + " keV");
+    throw core::ConfigError(inst.settings.source_file + ": effective_area: zero everywhere in the band " + format_number(e_lo) +
+                            "-" + format_number(e_hi) + " keV");
   if (x.expected[kCompCluster].sum() > 0) {
     double tmin = HUGE_VAL, tmax = 0.0;
     for (std::size_t i = 0; i < grid.size(); ++i)
@@ -339,10 +332,10 @@ ExpectedObservation expect_observation(const PhysicalMaps& maps, const config::O
     x.particle_spectrum =
         instrument::SpectrumSampler::from_density(edges, [&](double E) { return inst.particle.spectrum(E); });
 
-  log.info("observe: expected counts: cluster " + fmtg(x.expected[kCompCluster].sum()) + ", point sources " +
-           fmtg(x.expected[kCompPoints].sum()) + " (" + std::to_string(x.sources.size()) + " sources), sky " +
-           fmtg(x.expected[kCompSky].sum()) + ", particle " + fmtg(x.expected[kCompParticle].sum()) +
-           "; on-axis band area " + fmtg(x.band_area_cm2) + " cm^2, live time " + fmtg(x.live_time_s) + " s");
+  log.info("observe: expected counts: cluster " + format_number(x.expected[kCompCluster].sum()) + ", point sources " +
+           format_number(x.expected[kCompPoints].sum()) + " (" + std::to_string(x.sources.size()) + " sources), sky " +
+           format_number(x.expected[kCompSky].sum()) + ", particle " + format_number(x.expected[kCompParticle].sum()) +
+           "; on-axis band area " + format_number(x.band_area_cm2) + " cm^2, live time " + format_number(x.live_time_s) + " s");
   return x;
 }
 
@@ -472,7 +465,7 @@ ObserveResult run_observe(const config::ObserveRunSettings& settings, Log& log) 
       maps = cell_source_maps(ms, cosmo, table, log, &stats);
     }
     log.info("observe: " + ms.target.name + ": " + std::to_string(stats.cells_in_field) +
-             " cells in the field, on-axis band rate " + fmtg(maps.rate.sum()) + " counts/s");
+             " cells in the field, on-axis band rate " + format_number(maps.rate.sum()) + " counts/s");
   }
   res.seconds_maps = seconds_since(t0);
   cpu_maps = static_cast<double>(std::clock() - cpu0) / CLOCKS_PER_SEC;
@@ -644,8 +637,8 @@ ObserveResult run_observe(const config::ObserveRunSettings& settings, Log& log) 
     q.stretch = ms.output.stretch == "log" ? io::Stretch::Log
                 : ms.output.stretch == "linear" ? io::Stretch::Linear
                                                : io::Stretch::Asinh;
-    q.title = ms.target.name + "  " + inst.name() + "  " + fmtg(obs.exposure_ks, "%.4g") + " ks  " +
-              fmtg(e_lo, "%.3g") + "-" + fmtg(e_hi, "%.3g") + " keV";
+    q.title = ms.target.name + "  " + inst.name() + "  " + format_number(obs.exposure_ks, "%.4g") + " ks  " +
+              format_number(e_lo, "%.3g") + "-" + format_number(e_hi, "%.3g") + " keV";
     q.colorbar_label = "counts per pixel";
     q.kpc_per_arcsec = maps.kpc_per_arcsec;
     double emax = 0.0;
@@ -659,15 +652,15 @@ ObserveResult run_observe(const config::ObserveRunSettings& settings, Log& log) 
   }
   res.seconds_write = seconds_since(t0);
 
-  std::string line = "observe: " + ms.target.name + " with " + inst.name() + ", " + fmtg(obs.exposure_ks) + " ks:";
+  std::string line = "observe: " + ms.target.name + " with " + inst.name() + ", " + format_number(obs.exposure_ks) + " ks:";
   for (int c = 0; c < kNComp; ++c)
     line += std::string(c ? "," : "") + " " + component_name(c) + " " + std::to_string(res.counts[c]);
   line += " counts";
-  line += "; times: maps " + fmtg(res.seconds_maps, "%.2f") + " s, expected " + fmtg(res.seconds_expected, "%.2f") +
-          " s (PSF " + fmtg(x.seconds_psf, "%.2f") + " s, exposure " + fmtg(x.seconds_exposure, "%.2f") +
-          " s), counts/events " + fmtg(res.seconds_realise, "%.2f") + " s, writing " + fmtg(res.seconds_write, "%.2f") +
-          " s (CPU: maps " + fmtg(cpu_maps, "%.2f") + " s, instrument stages " +
-          fmtg(static_cast<double>(std::clock() - cpu0) / CLOCKS_PER_SEC - cpu_maps, "%.2f") + " s)";
+  line += "; times: maps " + format_number(res.seconds_maps, "%.2f") + " s, expected " + format_number(res.seconds_expected, "%.2f") +
+          " s (PSF " + format_number(x.seconds_psf, "%.2f") + " s, exposure " + format_number(x.seconds_exposure, "%.2f") +
+          " s), counts/events " + format_number(res.seconds_realise, "%.2f") + " s, writing " + format_number(res.seconds_write, "%.2f") +
+          " s (CPU: maps " + format_number(cpu_maps, "%.2f") + " s, instrument stages " +
+          format_number(static_cast<double>(std::clock() - cpu0) / CLOCKS_PER_SEC - cpu_maps, "%.2f") + " s)";
   if (obs.events) line += "; " + std::to_string(res.n_events) + " events";
   log.info(line);
   return res;

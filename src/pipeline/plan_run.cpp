@@ -9,27 +9,20 @@
 
 #include "icmscope/core/errors.hpp"
 #include "icmscope/core/random.hpp"
+#include "icmscope/core/text_format.hpp"
 #include "icmscope/morphology/indicators.hpp"
 #include "icmscope/pipeline/plan_goals.hpp"
 #include "icmscope/pipeline/plan_report.hpp"
 #include "icmscope/pipeline/project_run.hpp"
+#include "icmscope/pipeline/stage_clock.hpp"
 
 namespace icmscope::pipeline {
+
+using core::format_number;
 
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
-using clock_type = std::chrono::steady_clock;
-
-std::string fmtg(double v, const char* f = "%.4g") {
-  char b[64];
-  std::snprintf(b, sizeof b, f, v);
-  return b;
-}
-
-double seconds_since(clock_type::time_point t0) {
-  return std::chrono::duration<double>(clock_type::now() - t0).count();
-}
 
 core::ImageD scaled(const core::ImageD& im, double f) {
   core::ImageD o = im;
@@ -233,11 +226,11 @@ PlanResult run_plan(const config::PlanRunSettings& s, Log& log, bool write_outpu
                                   "' is not measured (names: c, w, P2/P0, P3/P0, P4/P0, A, A_phot, gini, M20, S, "
                                   "ellipticity; apertures: R500, 500 kpc, 100/500 kpc, 40/400 kpc, 0.1/1 R500)");
     }
-    std::string line = "plan: " + fmtg(t) + " ks: S(R500) " + fmtg(e.source_r500, "%.0f") + ", S/N " +
-                       fmtg(e.sn_r500, "%.1f");
+    std::string line = "plan: " + format_number(t) + " ks: S(R500) " + format_number(e.source_r500, "%.0f") + ", S/N " +
+                       format_number(e.sn_r500, "%.1f");
     for (const auto& pi : e.indicators)
-      if (pi.available) line += ", " + pi.ref.label() + " " + fmtg(pi.median, "%.3g") + " +- " + fmtg(pi.sigma, "%.2g");
-    log.info(line + " (" + fmtg(e.seconds, "%.1f") + " s)");
+      if (pi.available) line += ", " + pi.ref.label() + " " + format_number(pi.median, "%.3g") + " +- " + format_number(pi.sigma, "%.2g");
+    log.info(line + " (" + format_number(e.seconds, "%.1f") + " s)");
     res.exposures.push_back(std::move(e));
   }
   answer_goals(s, res.exposures, res.goals, res.all_goals);
@@ -273,7 +266,7 @@ PlanResult run_plan(const config::PlanRunSettings& s, Log& log, bool write_outpu
         cells::ScaledClusterSpec spec = s.scaled;
         spec.m500_msun = p.m500_msun;
         spec.redshift = p.redshift;
-        spec.name = s.map.target.name + "_M" + fmtg(p.m500_msun, "%.3g") + "_z" + fmtg(p.redshift, "%.3g");
+        spec.name = s.map.target.name + "_M" + format_number(p.m500_msun, "%.3g") + "_z" + format_number(p.redshift, "%.3g");
         try {
           const PlanTarget t = build_scaled_target(spec, s, ctx, q.exposure_ks, log);
           p.r500_kpc = t.r500_kpc;
@@ -290,11 +283,11 @@ PlanResult run_plan(const config::PlanRunSettings& s, Log& log, bool write_outpu
           p.fraction = std::isfinite(fr) ? fr : 0.0;
         } catch (const core::InputError& err) {
           // No usable image (e.g. no peak at all): not determined.
-          log.warn("plan: reverse grid M500 " + fmtg(p.m500_msun) + ", z " + fmtg(p.redshift) + ": " + err.what());
+          log.warn("plan: reverse grid M500 " + format_number(p.m500_msun) + ", z " + format_number(p.redshift) + ": " + err.what());
         }
         p.determined = p.fraction >= q.confidence;
-        log.info("plan: reverse: M500 " + fmtg(p.m500_msun, "%.3g") + " Msun, z " + fmtg(p.redshift, "%.3g") + ": " +
-                 (p.dominant.empty() ? "-" : p.dominant) + " " + fmtg(p.fraction, "%.2f") +
+        log.info("plan: reverse: M500 " + format_number(p.m500_msun, "%.3g") + " Msun, z " + format_number(p.redshift, "%.3g") + ": " +
+                 (p.dominant.empty() ? "-" : p.dominant) + " " + format_number(p.fraction, "%.2f") +
                  (p.determined ? " (determined)" : ""));
         rv.grid.push_back(p);
       }

@@ -6,6 +6,7 @@
 
 #include "icmscope/config/synth_settings.hpp"
 #include "icmscope/core/errors.hpp"
+#include "icmscope/core/text_format.hpp"
 #include "icmscope/emission/band_table.hpp"
 #include "icmscope/emission/spectral_model.hpp"
 #include "icmscope/io/fits_header.hpp"
@@ -14,22 +15,13 @@
 #include "icmscope/pipeline/analytic_maps.hpp"
 #include "icmscope/pipeline/maps_file.hpp"
 #include "icmscope/pipeline/project_run.hpp"
+#include "icmscope/pipeline/stage_clock.hpp"
 
 namespace icmscope::pipeline {
 
+using core::format_number;
+
 namespace {
-
-using clock_type = std::chrono::steady_clock;
-
-double seconds_since(clock_type::time_point t0) {
-  return std::chrono::duration<double>(clock_type::now() - t0).count();
-}
-
-std::string fmtg(double v, const char* f = "%.4g") {
-  char b[64];
-  std::snprintf(b, sizeof b, f, v);
-  return b;
-}
 
 config::ObservationSettings observation_of(const config::PlanRunSettings& s, double exposure_ks) {
   config::ObservationSettings o;
@@ -118,8 +110,8 @@ PlanTarget build_scaled_target(const cells::ScaledClusterSpec& spec, const confi
   ao.subsamples = s.scaled_subsamples;
   const PhysicalMaps maps = make_analytic_maps(cm, m, ctx.cosmology, table, quiet, ao);
   t.seconds_maps = seconds_since(t0);
-  log.info("plan: " + spec.name + ": scaled model " + fmtg(s_model, "%.2f") + " s, band table " + fmtg(s_table, "%.2f") +
-           " s, line-of-sight maps " + fmtg(t.seconds_maps - s_model - s_table, "%.2f") + " s");
+  log.info("plan: " + spec.name + ": scaled model " + format_number(s_model, "%.2f") + " s, band table " + format_number(s_table, "%.2f") +
+           " s, line-of-sight maps " + format_number(t.seconds_maps - s_model - s_table, "%.2f") + " s");
   finish_target(t, maps, s, m, ctx, exposure_ks, log);
   return t;
 }
@@ -128,10 +120,10 @@ PlanTarget build_plan_target(const config::PlanRunSettings& s, const PlanContext
   if (s.target_kind == "scaled") {
     PlanTarget t = build_scaled_target(s.scaled, s, ctx, exposure_ks, log);
     t.name = s.map.target.name;
-    log.info("plan: " + t.name + ": scaled cluster M500 " + fmtg(t.m500_msun) + " Msun, z " + fmtg(t.redshift) +
-             ": R500 " + fmtg(t.r500_kpc) + " kpc, kT " + fmtg(t.scaling.kT_keV) + " keV (" + t.scaling.mt_reference +
-             "), L(0.5-2 keV) " + fmtg(t.scaling.l_soft_erg_s) + " erg/s (" + t.scaling.lm_reference + "); maps " +
-             fmtg(t.seconds_maps, "%.2f") + " s, expected observation " + fmtg(t.seconds_expected, "%.2f") + " s");
+    log.info("plan: " + t.name + ": scaled cluster M500 " + format_number(t.m500_msun) + " Msun, z " + format_number(t.redshift) +
+             ": R500 " + format_number(t.r500_kpc) + " kpc, kT " + format_number(t.scaling.kT_keV) + " keV (" + t.scaling.mt_reference +
+             "), L(0.5-2 keV) " + format_number(t.scaling.l_soft_erg_s) + " erg/s (" + t.scaling.lm_reference + "); maps " +
+             format_number(t.seconds_maps, "%.2f") + " s, expected observation " + format_number(t.seconds_expected, "%.2f") + " s");
     return t;
   }
   PlanTarget t;
@@ -176,9 +168,9 @@ PlanTarget build_plan_target(const config::PlanRunSettings& s, const PlanContext
   }
   t.seconds_maps = seconds_since(t0);
   finish_target(t, maps, s, m, ctx, exposure_ks, log);
-  log.info("plan: " + t.name + " (" + t.kind + "): z " + fmtg(t.redshift) + ", R500 " + fmtg(t.r500_kpc) + " kpc (" +
-           t.r500_source + "), on-axis rate " + fmtg(t.expected.rate_onaxis.sum()) + " counts/s; maps " + fmtg(t.seconds_maps, "%.2f") +
-           " s, expected observation " + fmtg(t.seconds_expected, "%.2f") + " s");
+  log.info("plan: " + t.name + " (" + t.kind + "): z " + format_number(t.redshift) + ", R500 " + format_number(t.r500_kpc) + " kpc (" +
+           t.r500_source + "), on-axis rate " + format_number(t.expected.rate_onaxis.sum()) + " counts/s; maps " + format_number(t.seconds_maps, "%.2f") +
+           " s, expected observation " + format_number(t.seconds_expected, "%.2f") + " s");
   return t;
 }
 
